@@ -1,0 +1,1 @@
+//! Colours: parsing, sRGB transfer, LED bytes and fades (in progress).

@@ -1,0 +1,263 @@
+//! Diagnostics: errors and warnings that name the file, line, column and key.
+//!
+//! A [`Diagnostic`] carries a message, an optional byte span in the show file
+//! and an optional key path (`prop.left.tether_m`). [`Diagnostics`] collects
+//! many, so that a show's errors are reported all at once.
+
+use std::fmt;
+use std::ops::Range;
+use std::sync::Arc;
+
+/// Severity of a diagnostic.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Severity {
+    /// The show cannot be used.
+    Error,
+    /// The show works, but something deserves a look.
+    Warning,
+}
+
+/// A source file's name and text, shared by its diagnostics.
+#[derive(Debug)]
+pub struct Source {
+    /// The path as the user gave it.
+    pub name: String,
+    /// The whole text of the file.
+    pub text: String,
+}
+
+impl Source {
+    /// Line and column (both from 1, columns in characters) of byte `offset`.
+    pub fn line_col(&self, offset: usize) -> (usize, usize) {
+        let offset = offset.min(self.text.len());
+        let before = &self.text[..floor_char_boundary(&self.text, offset)];
+        let line = before.matches('\n').count() + 1;
+        let line_start = before.rfind('\n').map_or(0, |i| i + 1);
+        let col = before[line_start..].chars().count() + 1;
+        (line, col)
+    }
+
+    /// The text of line `line` (from 1), without its newline.
+    pub fn line_text(&self, line: usize) -> &str {
+        self.text
+            .lines()
+            .nth(line.saturating_sub(1))
+            .unwrap_or("")
+            .trim_end_matches('\r')
+    }
+}
+
+fn floor_char_boundary(s: &str, mut i: usize) -> usize {
+    while i > 0 && !s.is_char_boundary(i) {
+        i -= 1;
+    }
+    i
+}
+
+/// One error or warning.
+#[derive(Clone, Debug)]
+pub struct Diagnostic {
+    /// Error or warning.
+    pub severity: Severity,
+    /// What is wrong, lower case, names in backticks.
+    pub message: String,
+    /// The key path at fault, e.g. `prop.left.tether_m`.
+    pub key: Option<String>,
+    /// Byte range in the source file.
+    pub span: Option<Range<usize>>,
+    /// The file the span refers to.
+    pub source: Option<Arc<Source>>,
+    /// What to try next.
+    pub help: Option<String>,
+}
+
+impl Diagnostic {
+    /// A new error with a message.
+    pub fn error(message: impl Into<String>) -> Self {
+        Diagnostic {
+            severity: Severity::Error,
+            message: message.into(),
+            key: None,
+            span: None,
+            source: None,
+            help: None,
+        }
+    }
+
+    /// Sets the key path.
+    pub fn key(mut self, key: impl Into<String>) -> Self {
+        self.key = Some(key.into());
+        self
+    }
+
+    /// Sets the span and its file.
+    pub fn at(mut self, source: &Arc<Source>, span: Range<usize>) -> Self {
+        self.source = Some(source.clone());
+        self.span = Some(span);
+        self
+    }
+
+    /// Sets the help text.
+    pub fn help(mut self, help: impl Into<String>) -> Self {
+        self.help = Some(help.into());
+        self
+    }
+
+    /// `file:line:column` where the diagnostic points, if it has a span.
+    pub fn location(&self) -> Option<(String, usize, usize)> {
+        let source = self.source.as_ref()?;
+        let span = self.span.as_ref()?;
+        let (line, col) = source.line_col(span.start);
+        Some((source.name.clone(), line, col))
+    }
+}
+
+impl fmt::Display for Diagnostic {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let label = match self.severity {
+            Severity::Error => "error",
+            Severity::Warning => "warning",
+        };
+        match (&self.source, &self.span) {
+            (Some(source), Some(span)) => {
+                let (line, col) = source.line_col(span.start);
+                write!(f, "{}:{line}:{col}: {label}", source.name)?;
+                if let Some(key) = &self.key {
+                    write!(f, " in `{key}`")?;
+                }
+                writeln!(f, ": {}", self.message)?;
+                let text = source.line_text(line);
+                let width = line.to_string().len();
+                writeln!(f, "{:width$} |", "")?;
+                writeln!(f, "{line} | {text}")?;
+                let (end_line, end_col) = source.line_col(span.end.max(span.start + 1) - 1);
+                let carets = if end_line == line {
+                    (end_col + 1).saturating_sub(col).max(1)
+                } else {
+                    1
+                };
+                write!(f, "{:width$} | {}{}", "", " ".repeat(col - 1), "^".repeat(carets))?;
+            }
+            (Some(source), None) => {
+                write!(f, "{}: {label}", source.name)?;
+                if let Some(key) = &self.key {
+                    write!(f, " in `{key}`")?;
+                }
+                write!(f, ": {}", self.message)?;
+            }
+            _ => {
+                write!(f, "{label}")?;
+                if let Some(key) = &self.key {
+                    write!(f, " in `{key}`")?;
+                }
+                write!(f, ": {}", self.message)?;
+            }
+        }
+        if let Some(help) = &self.help {
+            write!(f, "\n  = help: {help}")?;
+        }
+        Ok(())
+    }
+}
+
+/// A list of diagnostics, errors first in the order found.
+#[derive(Clone, Debug, Default)]
+pub struct Diagnostics(pub Vec<Diagnostic>);
+
+impl Diagnostics {
+    /// Adds one.
+    pub fn push(&mut self, d: Diagnostic) {
+        self.0.push(d);
+    }
+
+    /// True when any is an error.
+    pub fn has_errors(&self) -> bool {
+        self.0.iter().any(|d| d.severity == Severity::Error)
+    }
+
+    /// True when there are none.
+    pub fn is_empty(&self) -> bool {
+        self.0.is_empty()
+    }
+}
+
+impl fmt::Display for Diagnostics {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        for (i, d) in self.0.iter().enumerate() {
+            if i > 0 {
+                writeln!(f)?;
+            }
+            writeln!(f, "{d}")?;
+        }
+        let n = self.0.iter().filter(|d| d.severity == Severity::Error).count();
+        if n > 1 {
+            writeln!(f, "{n} errors")?;
+        }
+        Ok(())
+    }
+}
+
+impl std::error::Error for Diagnostics {}
+
+impl From<Diagnostic> for Diagnostics {
+    fn from(d: Diagnostic) -> Self {
+        Diagnostics(vec![d])
+    }
+}
+
+/// Levenshtein edit distance between two strings, in characters.
+pub fn edit_distance(a: &str, b: &str) -> usize {
+    let b: Vec<char> = b.chars().collect();
+    let mut row: Vec<usize> = (0..=b.len()).collect();
+    for (i, ca) in a.chars().enumerate() {
+        let mut prev = row[0];
+        row[0] = i + 1;
+        for (j, &cb) in b.iter().enumerate() {
+            let cur = row[j + 1];
+            row[j + 1] = (prev + usize::from(ca != cb)).min(row[j] + 1).min(cur + 1);
+            prev = cur;
+        }
+    }
+    row[b.len()]
+}
+
+/// The candidate closest to `word` by edit distance, if it is close enough
+/// to be a likely typo (at most a third of the word's length, at least 1).
+pub fn did_you_mean<'a>(word: &str, candidates: impl IntoIterator<Item = &'a str>) -> Option<&'a str> {
+    let limit = (word.chars().count() / 3).max(1);
+    candidates
+        .into_iter()
+        .map(|c| (edit_distance(word, c), c))
+        .filter(|&(d, _)| d <= limit)
+        .min_by_key(|&(d, _)| d)
+        .map(|(_, c)| c)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn edit_distance_of_kitten_and_sitting_is_three() {
+        // The textbook example (Levenshtein distance, e.g. Wikipedia's page).
+        assert_eq!(edit_distance("kitten", "sitting"), 3);
+        assert_eq!(edit_distance("", "abc"), 3);
+        assert_eq!(edit_distance("tether_m", "tether_m"), 0);
+    }
+
+    #[test]
+    fn suggests_close_names_only() {
+        let keys = ["tether_m", "anchor_m", "leds"];
+        assert_eq!(did_you_mean("tethr_m", keys), Some("tether_m"));
+        assert_eq!(did_you_mean("colour", keys), None);
+    }
+
+    #[test]
+    fn line_and_column_count_characters() {
+        let s = Source { name: "a.toml".into(), text: "x = 1\ny = \"é\" z\n".into() };
+        assert_eq!(s.line_col(0), (1, 1));
+        assert_eq!(s.line_col(6), (2, 1));
+        let z = s.text.find('z').unwrap();
+        assert_eq!(s.line_col(z), (2, 9));
+    }
+}

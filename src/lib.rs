@@ -1,0 +1,15 @@
+//! glowscore: compiles LED prop light shows into per-frame colour tables,
+//! long-exposure previews and a safety report.
+//!
+//! The pipeline, one module per stage:
+//! `show` (TOML text to a validated [`model::Show`]) -> `motion` (hand and
+//! head paths, tempo map) -> `events` (tips, stalls, angles, beats by root
+//! finding) -> `cues` (colours onto frames) -> `output` (tables), `preview`
+//! (the renderer) and `check` (the report).
+#![forbid(unsafe_code)]
+
+pub mod colour;
+pub mod diag;
+pub mod flash;
+pub mod num;
+pub mod output;

@@ -1,0 +1,1 @@
+//! Frame-table formats: CSV, binary, compact, C header (in progress).
