@@ -9,7 +9,12 @@
 #![forbid(unsafe_code)]
 
 pub mod colour;
+pub mod commands;
 pub mod diag;
+pub mod events;
 pub mod flash;
+pub mod model;
+pub mod motion;
 pub mod num;
 pub mod output;
+pub mod show;

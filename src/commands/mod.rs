@@ -1,0 +1,43 @@
+//! The commands of the `glowscore` program, callable without the CLI.
+//!
+//! Each command reads a show, runs the pipeline and writes its output; all
+//! return [`Failure`] on error so that the binary can map it to an exit code.
+
+pub mod events;
+
+use std::fmt;
+
+use crate::diag::Diagnostics;
+
+/// Why a command failed: the show is invalid, or the work could not be done.
+#[derive(Debug)]
+pub enum Failure {
+    /// The show file has errors (exit status 1).
+    Invalid(Diagnostics),
+    /// Reading or writing failed, or a limit was exceeded (exit status 1).
+    Failed(String),
+}
+
+impl fmt::Display for Failure {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Failure::Invalid(d) => write!(f, "{d}"),
+            Failure::Failed(m) => writeln!(f, "error: {m}"),
+        }
+    }
+}
+
+impl std::error::Error for Failure {}
+
+impl From<Diagnostics> for Failure {
+    fn from(d: Diagnostics) -> Self {
+        Failure::Invalid(d)
+    }
+}
+
+/// Rounds to `digits` decimal places, for stable, readable JSON.
+pub fn round_to(x: f64, digits: i32) -> f64 {
+    let k = 10f64.powi(digits);
+    let r = (x * k).round() / k;
+    if r == 0.0 { 0.0 } else { r }
+}

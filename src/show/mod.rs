@@ -1,0 +1,699 @@
+//! Reading show files: TOML text to a validated [`Show`].
+//!
+//! The text is parsed into a spanned TOML tree (syntax errors are recovered
+//! from, so several are reported at once), then every table is read with
+//! its keys checked against the ones it accepts. All errors are collected
+//! and returned together, each with file, line, column and key path.
+
+pub mod reader;
+
+use std::path::Path;
+use std::sync::Arc;
+
+use nalgebra::Vector3;
+use toml::de::{DeTable, DeValue};
+
+use crate::diag::{Diagnostic, Diagnostics, Source, did_you_mean};
+use crate::model::{
+    Cue, EventKind, Pattern, Placement, Plane, Prop, PropKind, Section, Show, Term,
+};
+use crate::motion::TempoMap;
+use reader::{Ctx, Tbl, describe, join, list};
+
+/// The largest bar number a show may use.
+pub const MAX_BAR: i64 = 100_000;
+/// The largest show file read, bytes.
+pub const MAX_FILE_BYTES: u64 = 16 << 20;
+
+const TOP_KEYS: &[&str] = &["show", "tempo", "prop", "pattern", "section", "cue"];
+const SHOW_KEYS: &[&str] = &["title", "frame_rate", "bpm", "beats_per_bar", "start_s"];
+const TEMPO_KEYS: &[&str] = &["bar", "bpm"];
+const PROP_KEYS: &[&str] = &[
+    "kind",
+    "tether_m",
+    "anchor_m",
+    "leds",
+    "head_mass_kg",
+    "brightness",
+];
+const PATTERN_KEYS: &[&str] = &[
+    "plane",
+    "beats",
+    "hand_radius_m",
+    "hand",
+    "head_turns",
+    "hand_start_deg",
+    "head_start_deg",
+    "reverse",
+];
+const TERM_KEYS: &[&str] = &["radius_m", "turns", "start_deg"];
+const PLACEMENT_KEYS: &[&str] = &["pattern", "mirror", "delay_beats"];
+const CUE_KEYS: &[&str] = &["prop", "bars", "at", "angle_deg", "colours", "fade_beats"];
+const PLANES: &[&str] = &["wall", "wheel", "floor"];
+const KINDS: &[&str] = &["poi"];
+const AT_KINDS: &[&str] = &["tip", "inner", "stall", "beat", "bar", "angle"];
+
+/// Reads and validates the show file at `path`.
+pub fn load(path: &Path) -> Result<Show, Diagnostics> {
+    let name = path.display().to_string();
+    let meta = std::fs::metadata(path)
+        .map_err(|e| Diagnostic::error(format!("cannot read `{name}`: {e}")))?;
+    if meta.len() > MAX_FILE_BYTES {
+        return Err(Diagnostic::error(format!(
+            "`{name}` is {} bytes; show files larger than {MAX_FILE_BYTES} bytes are refused",
+            meta.len()
+        ))
+        .into());
+    }
+    let bytes =
+        std::fs::read(path).map_err(|e| Diagnostic::error(format!("cannot read `{name}`: {e}")))?;
+    let text = String::from_utf8(bytes).map_err(|e| {
+        Diagnostic::error(format!(
+            "`{name}` is not UTF-8 text (byte {})",
+            e.utf8_error().valid_up_to()
+        ))
+    })?;
+    parse(&name, text)
+}
+
+/// Parses and validates show-file text; `name` is used in messages.
+pub fn parse(name: &str, text: String) -> Result<Show, Diagnostics> {
+    let src = Arc::new(Source {
+        name: name.to_string(),
+        text,
+    });
+    let text = src.text.as_str();
+    let (doc, errors) = DeTable::parse_recoverable(text);
+    let mut ctx = Ctx {
+        src: src.clone(),
+        diags: Diagnostics::default(),
+    };
+    if !errors.is_empty() {
+        for e in errors {
+            let span = e.span().unwrap_or(0..0);
+            let msg = e.message().trim().to_string();
+            ctx.diags
+                .push(Diagnostic::error(format!("TOML syntax: {msg}")).at(&src, span));
+        }
+        return Err(ctx.diags);
+    }
+    let root = Tbl {
+        path: "",
+        table: doc.get_ref(),
+        at: (doc.span().start, doc.span().end),
+    };
+    let show = build(&mut ctx, root);
+    match show {
+        Some(show) if !ctx.diags.has_errors() => Ok(show),
+        _ => Err(ctx.diags),
+    }
+}
+
+fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
+    ctx.check_keys(root, TOP_KEYS);
+    let header = ctx.table(root, "show", "show");
+    let Some(header) = header else {
+        if root.get("show").is_none() {
+            ctx.error_help(
+                "show",
+                0..0,
+                "missing table `[show]`",
+                "add `[show]` with `frame_rate` and `bpm`",
+            );
+        }
+        return None;
+    };
+    ctx.check_keys(header, SHOW_KEYS);
+    let title = ctx
+        .string(header, "title", false)
+        .map(|s| s.0)
+        .unwrap_or_default();
+    let frame_rate = ctx.integer_in(header, "frame_rate", true, 1, 100_000);
+    let bpm = ctx.number_in(header, "bpm", true, 0.0, true, 1000.0);
+    let beats_per_bar = ctx
+        .integer_in(header, "beats_per_bar", false, 1, 64)
+        .unwrap_or(4) as u32;
+    let start_s = ctx
+        .number_in(header, "start_s", false, 0.0, false, 3600.0)
+        .unwrap_or(0.0);
+
+    let changes = tempo_changes(ctx, root);
+    let props = props(ctx, root);
+    let patterns = patterns(ctx, root);
+    let sections = sections(ctx, root, &props, &patterns);
+    let cues = cues(ctx, root, &props);
+
+    let tempo = TempoMap::new(start_s, beats_per_bar, bpm?, &changes);
+    Some(Show {
+        title,
+        frame_rate_hz: frame_rate? as u32,
+        tempo,
+        props,
+        patterns,
+        sections,
+        cues,
+        source: ctx.src.clone(),
+    })
+}
+
+/// The entries of an array of tables at `key` (`[[section]]`), with paths.
+fn table_array<'a, 'i>(
+    ctx: &mut Ctx,
+    root: Tbl<'a, 'i>,
+    key: &str,
+) -> Vec<(String, &'a DeTable<'i>, std::ops::Range<usize>)> {
+    let Some((arr, _)) = ctx.array(root, key, false) else {
+        return Vec::new();
+    };
+    let mut out = Vec::new();
+    for (i, v) in arr.iter().enumerate() {
+        let path = format!("{key}[{i}]");
+        match v.get_ref() {
+            DeValue::Table(t) => out.push((path, t, v.span())),
+            other => {
+                ctx.error(
+                    &path,
+                    v.span(),
+                    format!("expected a table (`[[{key}]]`), got {}", describe(other)),
+                );
+            }
+        }
+    }
+    out
+}
+
+/// The entries of a table of named tables at `key` (`[prop.NAME]`).
+fn named_tables<'a, 'i>(
+    ctx: &mut Ctx,
+    root: Tbl<'a, 'i>,
+    key: &'a str,
+) -> Vec<(String, String, &'a DeTable<'i>, std::ops::Range<usize>)> {
+    let Some(outer) = ctx.table(root, key, key) else {
+        return Vec::new();
+    };
+    let mut out = Vec::new();
+    for (k, v) in outer.table.iter() {
+        let name = k.get_ref().to_string();
+        let path = join(key, &name);
+        match v.get_ref() {
+            DeValue::Table(t) => out.push((name, path, t, v.span())),
+            other => {
+                ctx.error_help(
+                    &path,
+                    v.span(),
+                    format!("expected a table, got {}", describe(other)),
+                    format!("write `[{key}.NAME]` and its keys on the lines below"),
+                );
+            }
+        }
+    }
+    out
+}
+
+fn tempo_changes(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<(u32, f64)> {
+    let mut changes: Vec<(u32, f64, std::ops::Range<usize>)> = Vec::new();
+    for (path, table, span) in table_array(ctx, root, "tempo") {
+        let t = Tbl {
+            path: &path,
+            table,
+            at: (span.start, span.end),
+        };
+        ctx.check_keys(t, TEMPO_KEYS);
+        let bar = ctx.integer_in(t, "bar", true, 1, MAX_BAR);
+        let bpm = ctx.number_in(t, "bpm", true, 0.0, true, 1000.0);
+        if let (Some(bar), Some(bpm)) = (bar, bpm) {
+            if let Some(prev) = changes.iter().find(|c| c.0 == bar as u32) {
+                let (line, _) = ctx.src.line_col(prev.2.start);
+                ctx.error(
+                    &join(&path, "bar"),
+                    span.clone(),
+                    format!("a tempo change at bar {bar} is already given on line {line}"),
+                );
+            }
+            changes.push((bar as u32, bpm, span));
+        }
+    }
+    changes.sort_by_key(|c| c.0);
+    changes.into_iter().map(|(b, bpm, _)| (b, bpm)).collect()
+}
+
+fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
+    let mut out = Vec::new();
+    for (name, path, table, span) in named_tables(ctx, root, "prop") {
+        let t = Tbl {
+            path: &path,
+            table,
+            at: (span.start, span.end),
+        };
+        ctx.check_keys(t, PROP_KEYS);
+        check_name(ctx, &path, &name, span);
+        let kind = match ctx.string(t, "kind", false) {
+            None => Some(PropKind::Poi),
+            Some((k, _)) if k == "poi" => Some(PropKind::Poi),
+            Some((k, sp)) => {
+                unknown_name(ctx, &t.key_path("kind"), sp, "prop kind", &k, KINDS);
+                None
+            }
+        };
+        let tether = ctx.number_in(t, "tether_m", true, 0.0, true, 10.0);
+        let anchor = vector3(ctx, t, "anchor_m");
+        let leds = ctx.integer_in(t, "leds", false, 1, 4096).unwrap_or(1) as u32;
+        let mass = ctx
+            .number_in(t, "head_mass_kg", false, 0.0, true, 20.0)
+            .unwrap_or(0.15);
+        let brightness = ctx
+            .number_in(t, "brightness", false, 0.0, false, 1.0)
+            .unwrap_or(1.0);
+        if let (Some(kind), Some(tether_m), Some(anchor_m)) = (kind, tether, anchor) {
+            out.push(Prop {
+                name,
+                kind,
+                tether_m,
+                anchor_m,
+                leds,
+                head_mass_kg: mass,
+                brightness,
+            });
+        }
+    }
+    out
+}
+
+/// Names become file names: keep them to letters, digits, `_` and `-`.
+fn check_name(ctx: &mut Ctx, path: &str, name: &str, span: std::ops::Range<usize>) {
+    let ok = !name.is_empty()
+        && name.len() <= 64
+        && name
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
+        && !name.starts_with('-');
+    if !ok {
+        ctx.error_help(
+            path,
+            span,
+            format!("the name `{name}` cannot be used"),
+            "names are 1 to 64 ASCII letters, digits, `_` or `-`, not starting with `-` (they become file names)",
+        );
+    }
+}
+
+fn vector3(ctx: &mut Ctx, t: Tbl<'_, '_>, key: &str) -> Option<Vector3<f64>> {
+    let (arr, span) = ctx.array(t, key, true)?;
+    let nums: Vec<Option<f64>> = arr.iter().map(|v| reader::as_number(v.get_ref())).collect();
+    match nums.as_slice() {
+        [Some(x), Some(y), Some(z)]
+            if [x, y, z].iter().all(|v| v.is_finite() && v.abs() <= 1000.0) =>
+        {
+            Some(Vector3::new(*x, *y, *z))
+        }
+        _ => {
+            ctx.error_help(
+                &t.key_path(key),
+                span,
+                "expected three numbers [x, y, z] in metres (each within 1000 m)",
+                "x to the audience's right, y up, z toward the audience",
+            );
+            None
+        }
+    }
+}
+
+fn unknown_name(
+    ctx: &mut Ctx,
+    path: &str,
+    span: std::ops::Range<usize>,
+    what: &str,
+    value: &str,
+    known: &[&str],
+) {
+    let help = match did_you_mean(value, known.iter().copied()) {
+        Some(s) => format!("did you mean `{s}`?"),
+        None if known.is_empty() => format!("no {what} is defined"),
+        None => format!("expected one of {}", list(known)),
+    };
+    ctx.error_help(path, span, format!("unknown {what} `{value}`"), help);
+}
+
+fn patterns(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Pattern> {
+    let mut out = Vec::new();
+    for (name, path, table, span) in named_tables(ctx, root, "pattern") {
+        let t = Tbl {
+            path: &path,
+            table,
+            at: (span.start, span.end),
+        };
+        ctx.check_keys(t, PATTERN_KEYS);
+        check_name(ctx, &path, &name, span.clone());
+        let plane = match ctx.string(t, "plane", true) {
+            Some((p, sp)) => match p.as_str() {
+                "wall" => Some(Plane::Wall),
+                "wheel" => Some(Plane::Wheel),
+                "floor" => Some(Plane::Floor),
+                _ => {
+                    unknown_name(ctx, &t.key_path("plane"), sp, "plane", &p, PLANES);
+                    None
+                }
+            },
+            None => None,
+        };
+        let beats = ctx.number_in(t, "beats", true, 0.0, true, 10_000.0);
+        let hand_start = ctx
+            .number_in(t, "hand_start_deg", false, -36_000.0, false, 36_000.0)
+            .unwrap_or(0.0);
+        let hand = match (t.get("hand_radius_m"), t.get("hand")) {
+            (Some(_), Some(v)) => {
+                ctx.error_help(
+                    &t.key_path("hand"),
+                    v.span(),
+                    "give either `hand_radius_m` or `hand`, not both",
+                    "`hand_radius_m = R` is short for `hand = [{ radius_m = R, turns = 1 }]`",
+                );
+                None
+            }
+            (Some(_), None) => ctx
+                .number_in(t, "hand_radius_m", true, 0.0, false, 10.0)
+                .map(|r| {
+                    vec![Term {
+                        radius_m: r,
+                        turns: 1.0,
+                        start_deg: hand_start,
+                    }]
+                }),
+            (None, Some(_)) => {
+                if t.get("hand_start_deg").is_some() {
+                    ctx.error_help(
+                        &t.key_path("hand_start_deg"),
+                        t.get("hand_start_deg")
+                            .map(|v| v.span())
+                            .unwrap_or(span.clone()),
+                        "`hand_start_deg` goes with `hand_radius_m`",
+                        "with `hand = [...]`, give each term its own `start_deg`",
+                    );
+                }
+                hand_terms(ctx, t)
+            }
+            (None, None) => {
+                ctx.error_help(
+                    &path,
+                    span.clone(),
+                    "missing the hand path: `hand_radius_m` or `hand`",
+                    "write `hand_radius_m = 0.15` for a circle, or `hand = [{ radius_m = 0.2, turns = 1 }, ...]`",
+                );
+                None
+            }
+        };
+        let head_turns = ctx.number_in(t, "head_turns", true, -64.0, false, 64.0);
+        let head_start = ctx
+            .number_in(t, "head_start_deg", false, -36_000.0, false, 36_000.0)
+            .unwrap_or(0.0);
+        let reverse = ctx.boolean(t, "reverse").unwrap_or(false);
+        if let (Some(plane), Some(beats), Some(hand), Some(head_turns)) =
+            (plane, beats, hand, head_turns)
+        {
+            out.push(Pattern {
+                name,
+                plane,
+                beats,
+                hand,
+                head_turns,
+                head_start_deg: head_start,
+                reverse,
+            });
+        }
+    }
+    out
+}
+
+fn hand_terms(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Vec<Term>> {
+    let (arr, span) = ctx.array(t, "hand", true)?;
+    if arr.is_empty() || arr.len() > 16 {
+        ctx.error(
+            &t.key_path("hand"),
+            span,
+            format!("expected 1 to 16 terms, got {}", arr.len()),
+        );
+        return None;
+    }
+    let mut terms = Vec::new();
+    let mut ok = true;
+    for (i, v) in arr.iter().enumerate() {
+        let path = format!("{}[{i}]", t.key_path("hand"));
+        let DeValue::Table(table) = v.get_ref() else {
+            ctx.error_help(
+                &path,
+                v.span(),
+                format!("expected a table, got {}", describe(v.get_ref())),
+                "write `{ radius_m = 0.2, turns = 1, start_deg = 0 }`",
+            );
+            ok = false;
+            continue;
+        };
+        let term = Tbl {
+            path: &path,
+            table,
+            at: (v.span().start, v.span().end),
+        };
+        ctx.check_keys(term, TERM_KEYS);
+        let radius = ctx.number_in(term, "radius_m", true, 0.0, false, 10.0);
+        let turns = ctx.number_in(term, "turns", true, -64.0, false, 64.0);
+        let start = ctx
+            .number_in(term, "start_deg", false, -36_000.0, false, 36_000.0)
+            .unwrap_or(0.0);
+        match (radius, turns) {
+            (Some(radius_m), Some(turns)) => terms.push(Term {
+                radius_m,
+                turns,
+                start_deg: start,
+            }),
+            _ => ok = false,
+        }
+    }
+    ok.then_some(terms)
+}
+
+fn sections(
+    ctx: &mut Ctx,
+    root: Tbl<'_, '_>,
+    props: &[Prop],
+    patterns: &[Pattern],
+) -> Vec<Section> {
+    let prop_names: Vec<&str> = props.iter().map(|p| p.name.as_str()).collect();
+    let pattern_names: Vec<&str> = patterns.iter().map(|p| p.name.as_str()).collect();
+    let mut keys = vec!["bars"];
+    keys.extend(prop_names.iter().copied());
+    let mut out: Vec<(Section, std::ops::Range<usize>)> = Vec::new();
+    for (path, table, span) in table_array(ctx, root, "section") {
+        let t = Tbl {
+            path: &path,
+            table,
+            at: (span.start, span.end),
+        };
+        let bars = ctx.bar_range(t, "bars", MAX_BAR);
+        let mut placements = vec![None; props.len()];
+        for (k, v) in table.iter() {
+            let key: &str = k.get_ref();
+            if key == "bars" {
+                continue;
+            }
+            let kpath = join(&path, key);
+            let Some(prop) = props.iter().position(|p| p.name == key) else {
+                let help = match did_you_mean(key, keys.iter().copied()) {
+                    Some(s) => format!("did you mean `{s}`?"),
+                    None => format!("a section takes `bars` and prop names: {}", list(&keys)),
+                };
+                ctx.error_help(&kpath, k.span(), format!("`{key}` is not a prop"), help);
+                continue;
+            };
+            placements[prop] = placement(ctx, &kpath, v, &pattern_names);
+        }
+        if let Some((first_bar, last_bar, bspan)) = bars {
+            out.push((
+                Section {
+                    first_bar,
+                    last_bar,
+                    placements,
+                },
+                bspan,
+            ));
+        }
+    }
+    out.sort_by_key(|s| s.0.first_bar);
+    for w in out.windows(2) {
+        let (a, b) = (&w[0].0, &w[1].0);
+        if b.first_bar <= a.last_bar {
+            let (line, _) = ctx.src.line_col(w[0].1.start);
+            ctx.error(
+                "section.bars",
+                w[1].1.clone(),
+                format!(
+                    "bars {}-{} overlap the section of bars {}-{} (line {line})",
+                    b.first_bar, b.last_bar, a.first_bar, a.last_bar
+                ),
+            );
+        }
+    }
+    if out.is_empty() && !ctx.diags.has_errors() {
+        ctx.error_help(
+            "section",
+            root.at.0..root.at.0,
+            "the show has no sections",
+            "add `[[section]]` with `bars = [1, 8]` and `PROP = \"PATTERN\"`",
+        );
+    }
+    out.into_iter().map(|s| s.0).collect()
+}
+
+fn placement(
+    ctx: &mut Ctx,
+    path: &str,
+    v: &reader::Val<'_>,
+    patterns: &[&str],
+) -> Option<Placement> {
+    let find = |ctx: &mut Ctx, name: &str, span: std::ops::Range<usize>| {
+        let i = patterns.iter().position(|p| *p == name);
+        if i.is_none() {
+            unknown_name(ctx, path, span, "pattern", name, patterns);
+        }
+        i
+    };
+    match v.get_ref() {
+        DeValue::String(s) => {
+            let pattern = find(ctx, s, v.span())?;
+            Some(Placement {
+                pattern,
+                mirror: false,
+                delay_beats: 0.0,
+            })
+        }
+        DeValue::Table(table) => {
+            let t = Tbl {
+                path,
+                table,
+                at: (v.span().start, v.span().end),
+            };
+            ctx.check_keys(t, PLACEMENT_KEYS);
+            let (name, span) = ctx.string(t, "pattern", true)?;
+            let pattern = find(ctx, &name, span);
+            let mirror = ctx.boolean(t, "mirror").unwrap_or(false);
+            let delay = ctx
+                .number_in(t, "delay_beats", false, -10_000.0, false, 10_000.0)
+                .unwrap_or(0.0);
+            Some(Placement {
+                pattern: pattern?,
+                mirror,
+                delay_beats: delay,
+            })
+        }
+        other => {
+            ctx.error_help(
+                path,
+                v.span(),
+                format!("expected a pattern name or a table, got {}", describe(other)),
+                "write `left = \"four_petal\"` or `left = { pattern = \"four_petal\", mirror = true }`",
+            );
+            None
+        }
+    }
+}
+
+fn cues(ctx: &mut Ctx, root: Tbl<'_, '_>, props: &[Prop]) -> Vec<Cue> {
+    let prop_names: Vec<&str> = props.iter().map(|p| p.name.as_str()).collect();
+    let mut out = Vec::new();
+    for (path, table, span) in table_array(ctx, root, "cue") {
+        let t = Tbl {
+            path: &path,
+            table,
+            at: (span.start, span.end),
+        };
+        ctx.check_keys(t, CUE_KEYS);
+        let prop = ctx.string(t, "prop", true).and_then(|(name, sp)| {
+            let i = props.iter().position(|p| p.name == name);
+            if i.is_none() {
+                unknown_name(ctx, &t.key_path("prop"), sp, "prop", &name, &prop_names);
+            }
+            i
+        });
+        let bars = ctx.bar_range(t, "bars", MAX_BAR);
+        let at = ctx.string(t, "at", true).and_then(|(name, sp)| {
+            let k = EventKind::from_name(&name);
+            if k.is_none() {
+                unknown_name(ctx, &t.key_path("at"), sp, "event kind", &name, AT_KINDS);
+            }
+            k
+        });
+        let angle = ctx
+            .number_in(t, "angle_deg", false, -36_000.0, false, 36_000.0)
+            .map(|a| a.rem_euclid(360.0));
+        match (at, t.get("angle_deg")) {
+            (Some(EventKind::Angle), None) => {
+                ctx.error_help(
+                    &t.key_path("angle_deg"),
+                    t.span(),
+                    "`at = \"angle\"` needs `angle_deg`",
+                    "clock angle in degrees: 0 is 12 o'clock, 90 is 3 o'clock",
+                );
+            }
+            (Some(k), Some(v)) if k != EventKind::Angle => {
+                ctx.error(
+                    &t.key_path("angle_deg"),
+                    v.span(),
+                    format!(
+                        "`angle_deg` only goes with `at = \"angle\"`, not `{}`",
+                        k.name()
+                    ),
+                );
+            }
+            _ => {}
+        }
+        let colours = colours(ctx, t);
+        let fade = ctx
+            .number_in(t, "fade_beats", false, 0.0, false, 10_000.0)
+            .unwrap_or(0.0);
+        if let (Some(prop), Some((first_bar, last_bar, _)), Some(at), Some(colours)) =
+            (prop, bars, at, colours)
+        {
+            out.push(Cue {
+                prop,
+                first_bar,
+                last_bar,
+                at,
+                angle_deg: angle,
+                colours,
+                fade_beats: fade,
+            });
+        }
+    }
+    out
+}
+
+fn colours(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Vec<[u8; 3]>> {
+    let (arr, span) = ctx.array(t, "colours", true)?;
+    if arr.is_empty() {
+        ctx.error(&t.key_path("colours"), span, "needs at least one colour");
+        return None;
+    }
+    let mut out = Vec::new();
+    for (i, v) in arr.iter().enumerate() {
+        let path = format!("{}[{i}]", t.key_path("colours"));
+        let DeValue::String(s) = v.get_ref() else {
+            ctx.error(
+                &path,
+                v.span(),
+                format!("expected a colour string, got {}", describe(v.get_ref())),
+            );
+            continue;
+        };
+        match crate::colour::parse_colour(s) {
+            Ok(c) => out.push([c.red, c.green, c.blue]),
+            Err(e) => {
+                ctx.error_help(
+                    &path,
+                    v.span(),
+                    e.to_string(),
+                    "write `#rrggbb` or a CSS colour name such as `orange`",
+                );
+            }
+        }
+    }
+    (out.len() == arr.len()).then_some(out)
+}
