@@ -10,6 +10,7 @@
 
 pub mod colour;
 pub mod commands;
+pub mod cues;
 pub mod diag;
 pub mod events;
 pub mod flash;
