@@ -232,7 +232,8 @@ pub fn edit_distance(a: &str, b: &str) -> usize {
 }
 
 /// The candidate closest to `word` by edit distance, if it is close enough
-/// to be a likely typo (at most a third of the word's length, at least 1).
+/// to be a likely typo (at most a third of the word's length, at least 1,
+/// and never a complete rewrite of it).
 pub fn did_you_mean<'a>(
     word: &str,
     candidates: impl IntoIterator<Item = &'a str>,
@@ -241,7 +242,7 @@ pub fn did_you_mean<'a>(
     candidates
         .into_iter()
         .map(|c| (edit_distance(word, c), c))
-        .filter(|&(d, _)| d <= limit)
+        .filter(|&(d, _)| d <= limit && d < word.chars().count())
         .min_by_key(|&(d, _)| d)
         .map(|(_, c)| c)
 }

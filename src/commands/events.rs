@@ -55,15 +55,20 @@ pub fn run(path: &Path, json: bool, out: &mut dyn Write) -> Result<(), Failure> 
     let events = find_events(&show, &simulate(&show));
     let io = |e: std::io::Error| Failure::Failed(format!("cannot write the events: {e}"));
     if json {
-        let list: Vec<EventJson> = events.iter().map(|e| EventJson::new(&show, e)).collect();
-        serde_json::to_writer_pretty(&mut *out, &list)
-            .map_err(|e| Failure::Failed(e.to_string()))?;
-        writeln!(out).map_err(io)?;
+        // One event per line: valid JSON that diffs well.
+        write!(out, "[").map_err(io)?;
+        for (i, e) in events.iter().enumerate() {
+            let line = serde_json::to_string(&EventJson::new(&show, e))
+                .map_err(|e| Failure::Failed(e.to_string()))?;
+            let sep = if i == 0 { "" } else { "," };
+            write!(out, "{sep}\n  {line}").map_err(io)?;
+        }
+        writeln!(out, "{}]", if events.is_empty() { "" } else { "\n" }).map_err(io)?;
     } else {
         writeln!(
             out,
             "{:>12}  {:>10}  {:<10} {:<6} {:>24}  {:>8}",
-            "time_s", "bar.beat", "prop", "kind", "position_m (x, y, z)", "m/s"
+            "time_s", "bar:beat", "prop", "kind", "position_m (x, y, z)", "m/s"
         )
         .map_err(io)?;
         for e in &events {
@@ -77,12 +82,12 @@ pub fn run(path: &Path, json: bool, out: &mut dyn Write) -> Result<(), Failure> 
                 out,
                 "{:>12.6}  {:>10}  {:<10} {:<6} {:>7.3} {:>7.3} {:>7.3}  {:>8.3}",
                 e.time_s,
-                format!("{bar}.{beat:.3}"),
+                format!("{bar}:{beat:.3}"),
                 show.props[e.prop].name,
                 kind,
-                p.x,
-                p.y,
-                p.z,
+                p.x + 0.0,
+                p.y + 0.0,
+                p.z + 0.0,
                 e.speed_m_s
             )
             .map_err(io)?;

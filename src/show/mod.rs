@@ -140,8 +140,20 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
     let changes = tempo_changes(ctx, root);
     let props = props(ctx, root);
     let patterns = patterns(ctx, root);
-    let sections = sections(ctx, root, &props, &patterns);
-    let cues = cues(ctx, root, &props);
+    // Names declared in the file, valid or not: a table with an error is
+    // still known by name, so that uses of it raise no second error.
+    let declared = |key: &str| -> Vec<String> {
+        match root.get(key).map(|v| v.get_ref()) {
+            Some(DeValue::Table(t)) => t.iter().map(|(k, _)| k.get_ref().to_string()).collect(),
+            _ => Vec::new(),
+        }
+    };
+    let names = Declared {
+        props: declared("prop"),
+        patterns: declared("pattern"),
+    };
+    let sections = sections(ctx, root, &props, &patterns, &names);
+    let cues = cues(ctx, root, &props, &names);
 
     let tempo = TempoMap::new(start_s, beats_per_bar, bpm?, &changes);
     Some(Show {
@@ -154,6 +166,12 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
         cues,
         source: ctx.src.clone(),
     })
+}
+
+/// The prop and pattern names declared in the file.
+struct Declared {
+    props: Vec<String>,
+    patterns: Vec<String>,
 }
 
 /// The entries of an array of tables at `key` (`[[section]]`), with paths.
@@ -476,8 +494,9 @@ fn sections(
     root: Tbl<'_, '_>,
     props: &[Prop],
     patterns: &[Pattern],
+    names: &Declared,
 ) -> Vec<Section> {
-    let prop_names: Vec<&str> = props.iter().map(|p| p.name.as_str()).collect();
+    let prop_names: Vec<&str> = names.props.iter().map(String::as_str).collect();
     let pattern_names: Vec<&str> = patterns.iter().map(|p| p.name.as_str()).collect();
     let mut keys = vec!["bars"];
     keys.extend(prop_names.iter().copied());
@@ -497,6 +516,11 @@ fn sections(
             }
             let kpath = join(&path, key);
             let Some(prop) = props.iter().position(|p| p.name == key) else {
+                if names.props.iter().any(|n| n == key) {
+                    // The prop has errors of its own; still check the pattern.
+                    placement(ctx, &kpath, v, &pattern_names, &names.patterns);
+                    continue;
+                }
                 let help = match did_you_mean(key, keys.iter().copied()) {
                     Some(s) => format!("did you mean `{s}`?"),
                     None => format!("a section takes `bars` and prop names: {}", list(&keys)),
@@ -504,7 +528,7 @@ fn sections(
                 ctx.error_help(&kpath, k.span(), format!("`{key}` is not a prop"), help);
                 continue;
             };
-            placements[prop] = placement(ctx, &kpath, v, &pattern_names);
+            placements[prop] = placement(ctx, &kpath, v, &pattern_names, &names.patterns);
         }
         if let Some((first_bar, last_bar, bspan)) = bars {
             out.push((
@@ -548,11 +572,13 @@ fn placement(
     path: &str,
     v: &reader::Val<'_>,
     patterns: &[&str],
+    declared: &[String],
 ) -> Option<Placement> {
     let find = |ctx: &mut Ctx, name: &str, span: std::ops::Range<usize>| {
         let i = patterns.iter().position(|p| *p == name);
-        if i.is_none() {
-            unknown_name(ctx, path, span, "pattern", name, patterns);
+        if i.is_none() && !declared.iter().any(|d| d == name) {
+            let known: Vec<&str> = declared.iter().map(String::as_str).collect();
+            unknown_name(ctx, path, span, "pattern", name, &known);
         }
         i
     };
@@ -596,8 +622,8 @@ fn placement(
     }
 }
 
-fn cues(ctx: &mut Ctx, root: Tbl<'_, '_>, props: &[Prop]) -> Vec<Cue> {
-    let prop_names: Vec<&str> = props.iter().map(|p| p.name.as_str()).collect();
+fn cues(ctx: &mut Ctx, root: Tbl<'_, '_>, props: &[Prop], names: &Declared) -> Vec<Cue> {
+    let prop_names: Vec<&str> = names.props.iter().map(String::as_str).collect();
     let mut out = Vec::new();
     for (path, table, span) in table_array(ctx, root, "cue") {
         let t = Tbl {
@@ -608,7 +634,7 @@ fn cues(ctx: &mut Ctx, root: Tbl<'_, '_>, props: &[Prop]) -> Vec<Cue> {
         ctx.check_keys(t, CUE_KEYS);
         let prop = ctx.string(t, "prop", true).and_then(|(name, sp)| {
             let i = props.iter().position(|p| p.name == name);
-            if i.is_none() {
+            if i.is_none() && !names.props.contains(&name) {
                 unknown_name(ctx, &t.key_path("prop"), sp, "prop", &name, &prop_names);
             }
             i
