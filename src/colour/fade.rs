@@ -148,3 +148,36 @@ mod tests {
         }
     }
 }
+
+#[cfg(test)]
+mod properties {
+    use super::*;
+    use proptest::prelude::*;
+
+    proptest! {
+        #[test]
+        fn every_fade_is_in_gamut(
+            a in any::<[u8; 3]>(), b in any::<[u8; 3]>(), t in -1.0f64..2.0
+        ) {
+            // LED gamut: linear light 0..1 per channel (glowscore contract).
+            let c = fade(Srgb::from(a), Srgb::from(b), t);
+            for v in [c.red, c.green, c.blue] {
+                prop_assert!((0.0..=1.0).contains(&v));
+            }
+        }
+
+        #[test]
+        fn fading_a_colour_to_itself_keeps_its_led_bytes_within_one(
+            a in any::<[u8; 3]>(), t in 0.0f64..1.0
+        ) {
+            // Oklab round trip (B. Ottosson, 2020 matrices, 10 decimals) moves
+            // linear light by under 5e-7: at most one LED step at a rounding edge.
+            let c = Srgb::from(a);
+            let direct = crate::colour::led_bytes(to_linear(c), 1.0);
+            let faded = crate::colour::led_bytes(fade(c, c, t), 1.0);
+            for (x, y) in direct.iter().zip(faded) {
+                prop_assert!(x.abs_diff(y) <= 1);
+            }
+        }
+    }
+}

@@ -224,3 +224,26 @@ mod tests {
         assert!(parse_colour("é").is_err());
     }
 }
+
+#[cfg(test)]
+mod properties {
+    use super::*;
+    use proptest::prelude::*;
+
+    proptest! {
+        #[test]
+        fn any_text_parses_or_errs_without_panic(s in "\\PC{0,12}") {
+            if let Err(e) = parse_colour(&s) {
+                prop_assert!(!e.to_string().is_empty());
+            }
+        }
+
+        #[test]
+        fn hex_round_trips(rgb in any::<[u8; 3]>(), upper in any::<bool>()) {
+            let [r, g, b] = rgb;
+            let text = format!("#{r:02x}{g:02x}{b:02x}");
+            let text = if upper { text.to_ascii_uppercase() } else { text };
+            prop_assert_eq!(parse_colour(&text), Ok(Srgb::new(r, g, b)));
+        }
+    }
+}

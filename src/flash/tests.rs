@@ -311,3 +311,37 @@ fn four_minute_show_at_1000_hz_takes_milliseconds() {
     // rescans of the window (240 000 x 1000 steps) would cost.
     assert!(took.as_millis() < 250, "{took:?}");
 }
+
+mod properties {
+    use super::*;
+    use proptest::prelude::*;
+
+    proptest! {
+        #[test]
+        fn flicker_narrower_than_ten_percent_is_never_a_transition(
+            base in 0.0f64..0.9, levels in proptest::collection::vec(0.0f64..0.099, 1..400)
+        ) {
+            // W3C WCAG 2.x general flash: changes under 10 % of the maximum
+            // relative luminance are no transitions; with hysteresis this holds
+            // for any sequence confined to a band narrower than 0.1.
+            let frames: Vec<[f64; 3]> = levels.iter().map(|d| [base + d; 3]).collect();
+            prop_assert_eq!(report(&frames, 100.0).general_transitions, 0);
+        }
+
+        #[test]
+        fn counts_never_exceed_what_the_frames_allow(
+            frames in proptest::collection::vec(any::<[u8; 3]>(), 0..300)
+        ) {
+            // At most one transition per frame; flashes are transitions / 2.
+            let light: Vec<LinSrgb<f64>> = frames.iter().map(|&b| led_light(b)).collect();
+            let r = analyse(light, 50.0).unwrap();
+            prop_assert!(r.general_transitions <= r.frames);
+            prop_assert!(r.red_transitions <= r.frames);
+            prop_assert!(2 * r.max_general.flashes <= r.window_frames);
+            prop_assert_eq!(r.passes(), r.max_general.flashes <= 3 && r.max_red.flashes <= 3);
+            for w in &r.windows {
+                prop_assert!(w.start_s < w.end_s && w.end_s <= r.duration_s);
+            }
+        }
+    }
+}
