@@ -40,6 +40,12 @@ pub fn exp(x: f64) -> f64 {
     libm::exp(x)
 }
 
+/// Real cube root of `x`, negative for negative `x` (libm).
+#[inline]
+pub fn cbrt(x: f64) -> f64 {
+    libm::cbrt(x)
+}
+
 /// Degrees to radians.
 #[inline]
 pub fn rad(deg: f64) -> f64 {

@@ -1,25 +1,26 @@
-//! Colours: parsing, sRGB transfer, LED bytes and fades (in progress).
+//! Colours for LED props: parsing, the sRGB transfer, Oklab fades and LED bytes.
+//!
+//! Colour spaces used here, and where each value lives:
+//!
+//! - **sRGB, 8-bit** ([`Srgb<u8>`]): what a show file names (`#rrggbb` or a
+//!   CSS colour name). These are *encoded* (non-linear) values.
+//! - **linear sRGB** ([`LinSrgb<f64>`], channels 0..1): light intensity,
+//!   proportional to LED drive. Produced by [`to_linear`] (IEC 61966-2-1
+//!   decoding). Fades end here, brightness scales here, and [`led_bytes`]
+//!   turns it into the bytes of the frame tables.
+//! - **Oklab** (B. Ottosson, 2020): the space in which [`fade`] interpolates,
+//!   so that a crossfade looks even to the eye.
+//!
+//! [`Srgb<u8>`]: palette::Srgb
+//! [`LinSrgb<f64>`]: palette::LinSrgb
 
-use palette::Srgb;
+mod fade;
+mod parse;
+mod transfer;
 
-/// Parses `#rrggbb` or a CSS colour name (temporary minimal version).
-pub fn parse_colour(s: &str) -> Result<Srgb<u8>, String> {
-    if let Some(hex) = s.strip_prefix('#')
-        && hex.len() == 6
-        && let Ok(v) = u32::from_str_radix(hex, 16)
-    {
-        return Ok(Srgb::new((v >> 16) as u8, (v >> 8) as u8, v as u8));
-    }
-    palette::named::from_str(&s.to_ascii_lowercase()).ok_or_else(|| format!("unknown colour `{s}`"))
-}
-
-/// sRGB bytes to linear light (temporary minimal version).
-pub fn to_linear(c: Srgb<u8>) -> palette::LinSrgb<f64> {
-    c.into_format::<f64>().into_linear()
-}
-
-/// Linear light times brightness, rounded to bytes (temporary minimal version).
-pub fn led_bytes(c: palette::LinSrgb<f64>, brightness: f64) -> [u8; 3] {
-    let q = |v: f64| (v.clamp(0.0, 1.0) * brightness * 255.0).round() as u8;
-    [q(c.red), q(c.green), q(c.blue)]
-}
+pub use fade::{fade, from_oklab, to_oklab};
+pub use parse::{ColourError, css_names, parse_colour};
+pub use transfer::{
+    LUMINANCE_COEFFICIENTS, led_bytes, linear_to_srgb, relative_luminance, srgb_to_linear,
+    to_linear,
+};
