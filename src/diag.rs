@@ -136,7 +136,13 @@ impl fmt::Display for Diagnostic {
                 } else {
                     1
                 };
-                write!(f, "{:width$} | {}{}", "", " ".repeat(col - 1), "^".repeat(carets))?;
+                write!(
+                    f,
+                    "{:width$} | {}{}",
+                    "",
+                    " ".repeat(col - 1),
+                    "^".repeat(carets)
+                )?;
             }
             (Some(source), None) => {
                 write!(f, "{}: {label}", source.name)?;
@@ -189,7 +195,11 @@ impl fmt::Display for Diagnostics {
             }
             writeln!(f, "{d}")?;
         }
-        let n = self.0.iter().filter(|d| d.severity == Severity::Error).count();
+        let n = self
+            .0
+            .iter()
+            .filter(|d| d.severity == Severity::Error)
+            .count();
         if n > 1 {
             writeln!(f, "{n} errors")?;
         }
@@ -223,7 +233,10 @@ pub fn edit_distance(a: &str, b: &str) -> usize {
 
 /// The candidate closest to `word` by edit distance, if it is close enough
 /// to be a likely typo (at most a third of the word's length, at least 1).
-pub fn did_you_mean<'a>(word: &str, candidates: impl IntoIterator<Item = &'a str>) -> Option<&'a str> {
+pub fn did_you_mean<'a>(
+    word: &str,
+    candidates: impl IntoIterator<Item = &'a str>,
+) -> Option<&'a str> {
     let limit = (word.chars().count() / 3).max(1);
     candidates
         .into_iter()
@@ -254,7 +267,10 @@ mod tests {
 
     #[test]
     fn line_and_column_count_characters() {
-        let s = Source { name: "a.toml".into(), text: "x = 1\ny = \"é\" z\n".into() };
+        let s = Source {
+            name: "a.toml".into(),
+            text: "x = 1\ny = \"é\" z\n".into(),
+        };
         assert_eq!(s.line_col(0), (1, 1));
         assert_eq!(s.line_col(6), (2, 1));
         let z = s.text.find('z').unwrap();
