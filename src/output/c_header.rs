@@ -91,7 +91,7 @@ impl<W: Write> Write for HexWriter<W> {
 
 enum Inner<W: Write> {
     Full(FullTableWriter<HexWriter<W>>),
-    Compact(CompactTableWriter<HexWriter<W>>),
+    Compact(Box<CompactTableWriter<HexWriter<W>>>),
 }
 
 /// Streams a C99 header embedding a full or compact binary table.
@@ -145,7 +145,7 @@ impl<W: Write> CHeaderWriter<W> {
         ))?;
         let inner = match form {
             TableForm::Full => Inner::Full(FullTableWriter::new(hex, spec)?),
-            TableForm::Compact => Inner::Compact(CompactTableWriter::new(hex, spec)?),
+            TableForm::Compact => Inner::Compact(Box::new(CompactTableWriter::new(hex, spec)?)),
         };
         Ok(CHeaderWriter {
             inner,

@@ -239,8 +239,8 @@ impl<W: Write> CompactTableWriter<W> {
     /// Adds `frame` to the candidate if some step per channel still reproduces every frame.
     fn try_extend(&mut self, frame: &[u8]) -> bool {
         let j = i64::from(self.cand_len);
-        for c in 0..self.fs {
-            let v = i64::from(frame[c]) - i64::from(self.cand_first[c]);
+        for (c, (&now, &first)) in frame.iter().zip(&self.cand_first).enumerate() {
+            let v = i64::from(now) - i64::from(first);
             // floor((s*j + HALF) / ONE) == v  <=>  v*ONE - HALF <= s*j <= v*ONE + HALF - 1
             let lo = self.lo[c].max(ceil_div(v * ONE - HALF, j));
             let hi = self.hi[c].min(floor_div(v * ONE + HALF - 1, j));

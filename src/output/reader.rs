@@ -221,7 +221,11 @@ impl<'a> TableView<'a> {
                 return Err(ReadError::BadIndex("data not contiguous"));
             }
             prev = Some(first);
-            let frames = self.segment_end(i).saturating_sub(first);
+            let end = self.segment_end(i);
+            if end <= first {
+                return Err(ReadError::BadIndex("frames not increasing"));
+            }
+            let frames = end - first;
             let size = kind.data_len(u64::from(frames), fs);
             if offset + size > self.data.len() as u64 {
                 return Err(ReadError::BadIndex("segment data past the data area"));
