@@ -85,6 +85,23 @@ pub(crate) fn fade_value(a: u8, s: i32, j: u64) -> i64 {
     (i64::from(a) * ONE + i64::from(s) * j as i64 + HALF) >> FADE_FRACTION_BITS
 }
 
+/// The step written for a fade channel whose valid steps are `lo..=hi` (non-empty, within i32):
+/// the one divisible by the highest power of two, nearest zero among those, so that an exact
+/// ramp of `d` bytes a frame is stored as `d * 65536` and a constant channel as 0.
+fn simplest_step(lo: i64, hi: i64) -> i32 {
+    for bit in (0..=31).rev() {
+        let m = 1i64 << bit;
+        // Multiples of m in [lo, hi]: from ceil(lo / m) to floor(hi / m).
+        let first = ceil_div(lo, m);
+        let last = floor_div(hi, m);
+        if first <= last {
+            return (0i64.clamp(first, last) * m) as i32;
+        }
+    }
+    // Unreachable for lo <= hi (every integer is a multiple of 1); keep a valid value anyway.
+    lo as i32
+}
+
 /// One segment index entry, as written after the data area.
 #[derive(Clone, Copy)]
 struct Entry {
@@ -330,8 +347,7 @@ impl<W: Write> CompactTableWriter<W> {
         self.literal_open = false;
         self.sink.put(&self.cand_first)?;
         for c in 0..self.fs {
-            // The step nearest zero in the interval; the interval lies within i32.
-            let s = 0i64.clamp(self.lo[c], self.hi[c]) as i32;
+            let s = simplest_step(self.lo[c], self.hi[c]);
             self.sink.put(&s.to_le_bytes())?;
         }
         self.data_len += 5 * self.fs as u64;
@@ -380,6 +396,20 @@ mod tests {
         assert_eq!(v, [10, 10, 9, 9]);
         assert_eq!(fade_value(0, 255 * ONE as i32, 1), 255);
         assert_eq!(fade_value(255, -255 * ONE as i32, 1), 0);
+    }
+
+    #[test]
+    fn simplest_step_prefers_round_binary_values() {
+        assert_eq!(simplest_step(-5, 7), 0);
+        assert_eq!(simplest_step(651_720, 659_000), 655_360); // 10 bytes a frame
+        assert_eq!(simplest_step(-40_000, -30_000), -32_768); // -0.5 byte a frame
+        assert_eq!(simplest_step(3, 3), 3);
+        assert_eq!(simplest_step(5, 7), 6);
+        assert_eq!(simplest_step(-7, -5), -6);
+        let (lo, hi) = (i64::from(i32::MIN), i64::from(i32::MAX));
+        assert_eq!(simplest_step(lo, hi), 0);
+        assert_eq!(simplest_step(lo, lo), i32::MIN);
+        assert_eq!(simplest_step(hi, hi), i32::MAX);
     }
 
     #[test]
