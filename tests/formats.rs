@@ -1240,3 +1240,60 @@ fn extensions_a_version_1_decoder_must_skip_are_skipped() {
         );
     }
 }
+
+/// sRGB byte to linear light 0..=1 (IEC 61966-2-1 decoding function).
+fn srgb_to_linear(v: f64) -> f64 {
+    if v <= 0.04045 {
+        v / 12.92
+    } else {
+        glowscore::num::pow((v + 0.055) / 1.055, 2.4)
+    }
+}
+
+#[test]
+fn compact_on_fades_through_the_srgb_curve() {
+    // Cue-like input: 1 s crossfades at 500 Hz between random colours, interpolated in sRGB
+    // and sent as linear light (IEC 61966-2-1), each followed by a 2 s hold. On the wire such
+    // a fade is a curve, stored as a chain of exact linear pieces.
+    let mut rng = Rng(2024);
+    for leds in [1usize, 72] {
+        let mut frames = Vec::new();
+        let mut from = rng.colour();
+        for _ in 0..20 {
+            let to = rng.colour();
+            for j in 0..500 {
+                let t = f64::from(j) / 499.0;
+                let c = [0, 1, 2].map(|k| {
+                    let s =
+                        (f64::from(from[k]) + (f64::from(to[k]) - f64::from(from[k])) * t) / 255.0;
+                    (srgb_to_linear(s) * 255.0).round() as u8
+                });
+                frames.push(vec![c; leds]);
+            }
+            frames.extend(std::iter::repeat_n(frames.last().unwrap().clone(), 1000));
+            from = to;
+        }
+        let spec = spec(leds as u32, WireOrder::Grb, frames.len());
+        let (full, _) = table(TableForm::Full, spec, &frames);
+        let (compact, stats) = table(TableForm::Compact, spec, &frames);
+        let seg = stats.segments.unwrap();
+        println!(
+            "sRGB-curve fades, {leds} LED(s), {} frames: full {} bytes, compact {} bytes ({:.1} %); \
+             {} fade segments ({} frames), {} literal frames",
+            frames.len(),
+            full.len(),
+            compact.len(),
+            100.0 * compact.len() as f64 / full.len() as f64,
+            seg.fade_segments,
+            seg.fade_frames,
+            seg.literal_frames
+        );
+        assert!(compact.len() * 4 < full.len());
+        assert_same_frames(
+            &rust_decode_all(&compact),
+            &wire_all(WireOrder::Grb, &frames),
+            leds * 3,
+            "curve",
+        );
+    }
+}
