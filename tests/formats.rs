@@ -1057,7 +1057,7 @@ fn put_u32(bytes: &mut [u8], at: usize, v: u32) {
 
 /// The Rust reader's verdict and the C decoder's message on `bytes`.
 fn verdicts(bytes: &[u8], dir: &Path, tag: &str) -> (Result<(), ReadError>, String) {
-    let file = dir.join(format!("{tag}.bin"));
+    let file = dir.join(format!("{}.bin", tag.replace(' ', "_")));
     std::fs::write(&file, bytes).unwrap();
     let (code, _, err) = run_c(decoder(), &["info", path_str(&file)]);
     let c = if code == 0 {
