@@ -97,6 +97,10 @@ fn bench(c: &mut Criterion) {
     let motions = simulate(&show);
     let settings = CheckSettings::default();
     assert!(show.end_s() > 235.0, "about four minutes: {}", show.end_s());
+    eprintln!(
+        "sample intervals: {}",
+        glowscore::check::samples_needed(&show, &motions, &settings)
+    );
     c.bench_function("check a 4-minute two-prop show", |b| {
         b.iter(|| check(black_box(&show), black_box(&motions), &settings))
     });

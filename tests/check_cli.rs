@@ -130,3 +130,15 @@ fn output_is_repeatable_byte_for_byte() {
         assert_eq!(run(&args).stdout, run(&args).stdout);
     }
 }
+
+#[test]
+fn a_show_too_fast_to_check_fails_instead_of_hanging() {
+    // 10 000 head turns per beat for 400 beats: over the sample budget.
+    let text = show(false)
+        .replace("beats = 1\n", "beats = 0.0001\n")
+        .replace("bars = [1, 2]", "bars = [1, 100]");
+    let path = write("too-fast.toml", &text);
+    let out = run(&["check", path.to_str().unwrap(), "--json"]);
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("more than the limit"));
+}

@@ -41,7 +41,7 @@ p = "x"
 }
 
 fn report(text: &str) -> CheckReport {
-    check_show(&common::show(text))
+    check_show(&common::show(text)).expect("within the budget")
 }
 
 fn close(got: f64, want: f64, tol: f64, what: &str) {
@@ -224,7 +224,7 @@ fn a_tempo_change_inside_a_section_changes_the_tension() {
         4,
     ) + &format!("\n[[tempo]]\nbar = 3\nbpm = {}\n", 1.1 * critical_bpm);
     let show = common::show(&text);
-    let rep = check_show(&show);
+    let rep = check_show(&show).unwrap();
     let bar3 = show.tempo.time_at_bar(3);
     let slack: Vec<_> = rep
         .warnings
@@ -548,7 +548,7 @@ fn refined_extremes_bound_a_dense_sampling_of_the_motion_model() {
         1,
     );
     let show = common::show(&text);
-    let rep = check_show(&show);
+    let rep = check_show(&show).unwrap();
     let m = glowscore::motion::PropMotion::new(&show, 0);
     let (t0, t1) = (show.tempo.start_s(), show.end_s());
     let (mut tmin, mut tmax, mut vmax, mut rmax) =

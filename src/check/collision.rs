@@ -13,9 +13,9 @@
 use nalgebra::Vector3;
 
 use super::CheckSettings;
-use super::kin::sample_count;
+use super::kin::{sample_count, samples_needed};
 use super::report::{PairFigures, Warning, WarningKind, When};
-use super::search::{Extremes, Stretch, merge_touching, negative_stretches, samples_with_minima};
+use super::search::{DipFinder, Extremes, Stretch, for_each_point, merge_touching};
 use crate::model::Show;
 use crate::motion::{PropMotion, Span};
 
@@ -87,6 +87,13 @@ fn fastest_per_beat(span: &Span) -> f64 {
     f * span.phase_per_beat().abs()
 }
 
+/// Sample intervals of a search over the section that spans `sa` and `sb`
+/// share (a float, for budgets): twice the fastest term, for relative motion.
+pub fn section_samples(sa: &Span, sb: &Span, settings: &CheckSettings) -> f64 {
+    let rate = 2.0 * fastest_per_beat(sa).max(fastest_per_beat(sb));
+    samples_needed(sa.beats(), rate, settings.samples_per_turn)
+}
+
 /// What a pair's pass finds.
 #[derive(Clone, Debug, PartialEq)]
 pub struct PairScan {
@@ -124,31 +131,30 @@ pub fn scan_pair(
             let ((ta, ha), (tb, hb)) = at(x);
             segment_distance(ta, ha, tb, hb) - contact
         };
-        let rate = 2.0 * fastest_per_beat(sa).max(fastest_per_beat(sb));
-        let n = sample_count(x1 - x0, rate, settings.samples_per_turn);
-        let pts_h = samples_with_minima(head_d, x0, x1, n);
-        let pts_g = samples_with_minima(gap, x0, x1, n);
-        for p in &pts_h {
-            heads.offer(p.1, p.0);
-        }
-        for p in &pts_g {
-            tethers.offer(p.1 + contact, p.0);
-        }
-        for (s0, s1) in negative_stretches(gap, &pts_g) {
-            let inside = |pts: &[(f64, f64)]| {
-                pts.iter()
-                    .filter(|p| p.0 >= s0 && p.0 <= s1)
-                    .map(|p| p.1)
-                    .fold(f64::INFINITY, f64::min)
-            };
-            let t = inside(&pts_g).min(gap(s0)) + contact;
-            let h = inside(&pts_h).min(head_d(s0));
-            touching.push(Stretch {
-                start: s0,
-                end: s1,
-                figure: (t, h),
-            });
-        }
+        let n = sample_count(section_samples(sa, sb, settings));
+        let mut finder = DipFinder::new(&gap);
+        for_each_point(&gap, x0, x1, n, &mut |x, v| {
+            tethers.offer(v + contact, x);
+            finder.push(x, v);
+        });
+        let dips = finder.finish();
+        // The closest heads inside each stretch of contact.
+        let mut head_min: Vec<f64> = dips.iter().map(|d| head_d(d.start)).collect();
+        let mut k = 0;
+        for_each_point(&head_d, x0, x1, n, &mut |x, v| {
+            heads.offer(v, x);
+            while k < dips.len() && dips[k].end < x {
+                k += 1;
+            }
+            if k < dips.len() && dips[k].start <= x {
+                head_min[k] = head_min[k].min(v);
+            }
+        });
+        touching.extend(dips.iter().zip(head_min).map(|(d, h)| Stretch {
+            start: d.start,
+            end: d.end,
+            figure: (d.worst + contact, h),
+        }));
     }
     let when = |x: Option<(f64, f64)>| x.map(|(_, b)| When::at_beat(show, b));
     let (na, nb) = (&pa.name, &pb.name);

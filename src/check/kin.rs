@@ -137,11 +137,19 @@ pub fn pieces(show: &Show, motion: &PropMotion) -> Vec<Piece> {
 }
 
 /// Sample intervals for a search over `beats` beats of a curve whose finest
-/// detail turns `turns_per_beat` times per beat, at `per_turn` samples per turn.
-pub fn sample_count(beats: f64, turns_per_beat: f64, per_turn: f64) -> usize {
-    let n = (beats * turns_per_beat.max(1.0) * per_turn).ceil();
-    if n.is_finite() {
-        (n as usize).max(16)
+/// detail turns `turns_per_beat` times per beat, at `per_turn` samples per
+/// turn (at least 16), as a float so that budgets can see huge counts.
+pub fn samples_needed(beats: f64, turns_per_beat: f64, per_turn: f64) -> f64 {
+    (beats * turns_per_beat.max(1.0) * per_turn)
+        .ceil()
+        .max(16.0)
+}
+
+/// A count from [`samples_needed`] as an integer (16 if it is not finite;
+/// callers check the budget first).
+pub fn sample_count(samples: f64) -> usize {
+    if samples.is_finite() && samples < 1e15 {
+        samples as usize
     } else {
         16
     }

@@ -52,13 +52,74 @@ impl Default for CheckSettings {
     }
 }
 
+/// The most sample intervals one check may take: about half a minute of
+/// work on one core in release (the four-minute bench show takes under a
+/// million).
+pub const MAX_SAMPLES: f64 = 2e8;
+
+/// Why a show could not be checked.
+#[derive(Clone, Debug, PartialEq)]
+pub enum CheckError {
+    /// The searches would need more than [`MAX_SAMPLES`] samples (or a
+    /// pattern turns so fast that the count is not finite).
+    TooMuchWork {
+        /// Sample intervals needed.
+        samples: f64,
+    },
+}
+
+impl std::fmt::Display for CheckError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            CheckError::TooMuchWork { samples } => write!(
+                f,
+                "checking this show would take {samples:.3e} samples, more than the limit of {MAX_SAMPLES:.0e}: the show is too long or its patterns turn too fast"
+            ),
+        }
+    }
+}
+
+impl std::error::Error for CheckError {}
+
+/// Sample intervals the checks of `show` need, over all searches.
+pub fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSettings) -> f64 {
+    let mut total = 0.0;
+    for m in motions {
+        for piece in kin::pieces(show, m) {
+            if let Some(i) = piece.span {
+                // The extremes pass, and the slack pass where needed.
+                total += 2.0 * prop::piece_samples(&m.spans[i], &piece, settings);
+            }
+        }
+    }
+    for (i, a) in motions.iter().enumerate() {
+        for b in &motions[i + 1..] {
+            for sa in &a.spans {
+                if let Some(sb) = b.spans.iter().find(|s| s.section == sa.section) {
+                    total += 2.0 * collision::section_samples(sa, sb, settings);
+                }
+            }
+        }
+    }
+    total
+}
+
 /// Checks `show` with the default settings.
-pub fn check_show(show: &Show) -> CheckReport {
+pub fn check_show(show: &Show) -> Result<CheckReport, CheckError> {
     check(show, &simulate(show), &CheckSettings::default())
 }
 
-/// Checks `show`, whose motion is `motions` (from [`simulate`]).
-pub fn check(show: &Show, motions: &[PropMotion], settings: &CheckSettings) -> CheckReport {
+/// Checks `show`, whose motion is `motions` (from [`simulate`]); refuses a
+/// show that would need more than [`MAX_SAMPLES`] samples.
+pub fn check(
+    show: &Show,
+    motions: &[PropMotion],
+    settings: &CheckSettings,
+) -> Result<CheckReport, CheckError> {
+    let samples = samples_needed(show, motions, settings);
+    if samples.is_nan() || samples > MAX_SAMPLES {
+        return Err(CheckError::TooMuchWork { samples });
+    }
     let centre = reach::centre_line(show);
     let scans: Vec<prop::PropScan> = motions
         .iter()
@@ -104,5 +165,5 @@ pub fn check(show: &Show, motions: &[PropMotion], settings: &CheckSettings) -> C
         cautions: report::CAUTIONS.to_vec(),
     };
     report.finish();
-    report
+    Ok(report)
 }

@@ -12,17 +12,16 @@
 use nalgebra::Vector3;
 
 use super::CheckSettings;
-use super::kin::{Kin, pieces, sample_count, span_detail_per_beat};
+use super::kin::{Kin, Piece, pieces, sample_count, samples_needed, span_detail_per_beat};
 use super::reach::{Bounds, anchor_distance_sq, centre_distance_sq};
 use super::report::{PropFigures, Warning, WarningKind, When};
 use super::search::{
-    Extremes, Quantity, Stretch, merge_touching, negative_stretches, samples_with_minima,
-    scan_extremes,
+    DipFinder, Extremes, Quantity, Stretch, for_each_point, merge_touching, scan_extremes,
 };
 use super::spin::{hand_turns_per_s, head_turns_per_s};
 use super::tension::{G0, tension_n};
 use crate::model::Show;
-use crate::motion::PropMotion;
+use crate::motion::{PropMotion, Span};
 
 const Q_TENSION: usize = 0;
 const Q_SPEED: usize = 1;
@@ -32,6 +31,15 @@ const Q_CENTRE: usize = 4;
 const Q_HEAD: usize = 5;
 const Q_HAND: usize = 8;
 const N_Q: usize = 11;
+
+/// Sample intervals of a search over `piece` of `span` (a float, for budgets).
+pub fn piece_samples(span: &Span, piece: &Piece, settings: &CheckSettings) -> f64 {
+    samples_needed(
+        piece.end_beat - piece.start_beat,
+        span_detail_per_beat(span),
+        settings.samples_per_turn,
+    )
+}
 
 /// What one prop's pass finds.
 #[derive(Clone, Debug, PartialEq)]
@@ -90,23 +98,18 @@ pub fn scan_prop(
         let span = &motion.spans[i];
         let bps = piece.beats_per_s;
         let eval = |x: f64| Kin::moving(span, bps, x - span.start_beat);
-        let n = sample_count(b - a, span_detail_per_beat(span), settings.samples_per_turn);
+        let n = sample_count(piece_samples(span, &piece, settings));
         let mut ext = [Extremes::default(); N_Q];
         scan_extremes(eval, a, b, n, 1.0 / bps, &quantities, &mut ext);
         if ext[Q_TENSION].min.is_some_and(|m| m.0 < 0.0) {
             let f = |x: f64| tension_n(mass, &eval(x)).0;
-            let pts = samples_with_minima(f, a, b, n);
-            for (s0, s1) in negative_stretches(f, &pts) {
-                let worst = pts
-                    .iter()
-                    .filter(|p| p.0 >= s0 && p.0 <= s1)
-                    .fold((f(s0), s0), |w, p| if p.1 < w.0 { (p.1, p.0) } else { w });
-                slack.push(Stretch {
-                    start: s0,
-                    end: s1,
-                    figure: worst,
-                });
-            }
+            let mut finder = DipFinder::new(&f);
+            for_each_point(&f, a, b, n, &mut |x, v| finder.push(x, v));
+            slack.extend(finder.finish().into_iter().map(|d| Stretch {
+                start: d.start,
+                end: d.end,
+                figure: (d.worst, d.worst_at),
+            }));
         }
         for (e, x) in total.iter_mut().zip(&ext) {
             e.merge(x);

@@ -141,65 +141,134 @@ pub fn golden_min(f: impl Fn(f64) -> f64, a: f64, b: f64, c: f64) -> (f64, f64) 
     (x, fx)
 }
 
-/// Samples of `f` over `[a, b]` in `n` equal steps, plus the golden-section
-/// refined minimum next to every sample that is a local minimum of the
-/// samples: (where, value), sorted by where.
-pub fn samples_with_minima(f: impl Fn(f64) -> f64, a: f64, b: f64, n: usize) -> Vec<(f64, f64)> {
+/// Visits, in increasing order, the samples of `f` over `[a, b]` in `n`
+/// equal steps and, next to every sample that is a local minimum of the
+/// samples, the golden-section refined minimum: `visit(where, value)`.
+/// Needs constant memory, however many samples.
+pub fn for_each_point(
+    f: &dyn Fn(f64) -> f64,
+    a: f64,
+    b: f64,
+    n: usize,
+    visit: &mut dyn FnMut(f64, f64),
+) {
     let n = n.max(2);
     let h = (b - a) / n as f64;
-    let mut pts: Vec<(f64, f64)> = (0..=n)
-        .map(|i| {
-            let x = if i == n { b } else { a + h * i as f64 };
-            (x, f(x))
-        })
-        .collect();
-    let mut extra = Vec::new();
-    for i in 1..n {
-        let (l, m, r) = (pts[i - 1], pts[i], pts[i + 1]);
+    let x = |i: usize| if i == n { b } else { a + h * i as f64 };
+    let mut pending: Vec<(f64, f64)> = Vec::with_capacity(4);
+    let add = |p: (f64, f64), pending: &mut Vec<(f64, f64)>| {
+        let at = pending.partition_point(|q| q.0 <= p.0);
+        pending.insert(at, p);
+    };
+    let mut l = (x(0), f(x(0)));
+    let mut m = (x(1), f(x(1)));
+    visit(l.0, l.1);
+    for i in 2..=n {
+        let r = (x(i), f(x(i)));
+        add(m, &mut pending);
         if m.1 <= l.1 && m.1 <= r.1 && (m.1 < l.1 || m.1 < r.1) {
-            let (x, v) = golden_min(&f, l.0, m.0, r.0);
-            if v < m.1 {
-                extra.push((x, v));
+            let g = golden_min(f, l.0, m.0, r.0);
+            if g.1 < m.1 {
+                add(g, &mut pending);
             }
         }
+        // Later refined points lie beyond m: everything up to m is final.
+        let done = pending.partition_point(|q| q.0 <= m.0);
+        for q in pending.drain(..done) {
+            visit(q.0, q.1);
+        }
+        l = m;
+        m = r;
     }
-    pts.extend(extra);
-    pts.sort_by(|p, q| p.0.total_cmp(&q.0));
-    pts
+    for q in pending.drain(..) {
+        visit(q.0, q.1);
+    }
+    visit(m.0, m.1);
 }
 
-/// The stretches where `f < 0`, as (start, end), found between the points
-/// `pts` (sorted samples of `f`, as from [`samples_with_minima`]); each
-/// crossing is refined by Brent's method to [`TOL`].
-pub fn negative_stretches(f: impl Fn(f64) -> f64, pts: &[(f64, f64)]) -> Vec<(f64, f64)> {
-    let mut out = Vec::new();
-    let Some(&(x0, v0)) = pts.first() else {
-        return out;
-    };
-    let mut start = (v0 < 0.0).then_some(x0);
-    for w in pts.windows(2) {
-        let ((xa, va), (xb, vb)) = (w[0], w[1]);
-        match start {
-            None if vb < 0.0 && va >= 0.0 => {
-                let x = if va == 0.0 {
+/// A stretch where a function is negative, and its lowest point there.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Dip {
+    /// Where it starts (the refined crossing, or the start of the points).
+    pub start: f64,
+    /// Where it ends.
+    pub end: f64,
+    /// Lowest value among the points inside.
+    pub worst: f64,
+    /// Where that is.
+    pub worst_at: f64,
+}
+
+/// Finds the stretches where `f < 0` from points of `f` pushed in
+/// increasing order (as from [`for_each_point`]); each crossing between two
+/// points is refined by Brent's method to [`TOL`].
+pub struct DipFinder<'f> {
+    f: &'f dyn Fn(f64) -> f64,
+    prev: Option<(f64, f64)>,
+    open: Option<Dip>,
+    dips: Vec<Dip>,
+}
+
+impl<'f> DipFinder<'f> {
+    /// A finder for `f`, before any point.
+    pub fn new(f: &'f dyn Fn(f64) -> f64) -> Self {
+        DipFinder {
+            f,
+            prev: None,
+            open: None,
+            dips: Vec::new(),
+        }
+    }
+
+    /// Takes the next point (`x` not below the previous one).
+    pub fn push(&mut self, x: f64, v: f64) {
+        let f = self.f;
+        match (self.prev, &mut self.open) {
+            (None, _) if v < 0.0 => {
+                self.open = Some(Dip {
+                    start: x,
+                    end: x,
+                    worst: v,
+                    worst_at: x,
+                });
+            }
+            (Some((xa, va)), None) if v < 0.0 => {
+                let start = if va == 0.0 {
                     xa
                 } else {
-                    num::brent(&f, xa, xb, TOL).unwrap_or(xa)
+                    num::brent(f, xa, x, TOL).unwrap_or(xa)
                 };
-                start = Some(x);
+                self.open = Some(Dip {
+                    start,
+                    end: x,
+                    worst: v,
+                    worst_at: x,
+                });
             }
-            Some(s) if vb >= 0.0 => {
-                let x = num::brent(&f, xa, xb, TOL).unwrap_or(xb);
-                out.push((s, x));
-                start = None;
+            (Some(_), Some(d)) if v < 0.0 => {
+                d.end = x;
+                if v < d.worst {
+                    d.worst = v;
+                    d.worst_at = x;
+                }
+            }
+            (Some((xa, _)), Some(d)) => {
+                d.end = num::brent(f, xa, x, TOL).unwrap_or(x);
+                self.dips.push(*d);
+                self.open = None;
             }
             _ => {}
         }
+        self.prev = Some((x, v));
     }
-    if let (Some(s), Some(&(xl, _))) = (start, pts.last()) {
-        out.push((s, xl));
+
+    /// The stretches found, in order (one still open ends at the last point).
+    pub fn finish(mut self) -> Vec<Dip> {
+        if let Some(d) = self.open.take() {
+            self.dips.push(d);
+        }
+        self.dips
     }
-    out
 }
 
 /// A stretch of the search variable with a figure attached to it.
@@ -260,26 +329,49 @@ mod tests {
         assert!((x - 0.7).abs() < 1e-11, "{x}");
     }
 
+    fn dips(f: &dyn Fn(f64) -> f64, a: f64, b: f64, n: usize) -> Vec<Dip> {
+        let mut finder = DipFinder::new(f);
+        let mut last = f64::NEG_INFINITY;
+        for_each_point(f, a, b, n, &mut |x, v| {
+            assert!(x >= last, "points in order");
+            last = x;
+            finder.push(x, v);
+        });
+        finder.finish()
+    }
+
     #[test]
     fn a_dip_between_samples_makes_a_stretch() {
         // f = (x - 0.5)^2 - 1e-4 is negative on (0.49, 0.51), between the
         // samples 0.4 and 0.6 of a 5-step grid.
         let f = |x: f64| (x - 0.5) * (x - 0.5) - 1e-4;
-        let pts = samples_with_minima(f, 0.0, 1.0, 5);
-        let s = negative_stretches(f, &pts);
+        let s = dips(&f, 0.0, 1.0, 5);
         assert_eq!(s.len(), 1);
-        assert!(
-            (s[0].0 - 0.49).abs() < 1e-12 && (s[0].1 - 0.51).abs() < 1e-12,
-            "{s:?}"
-        );
+        assert!((s[0].start - 0.49).abs() < 1e-12 && (s[0].end - 0.51).abs() < 1e-12);
+        assert!((s[0].worst + 1e-4).abs() < 1e-15 && (s[0].worst_at - 0.5).abs() < 1e-7);
         // cos(2 pi x) < 0 on (0.25, 0.75) and (1.25, 1.75): a stretch may
         // start at the interval's start.
         let g = |x: f64| num::cos(std::f64::consts::TAU * x);
-        let s = negative_stretches(g, &samples_with_minima(g, 0.3, 1.2, 50));
-        assert_eq!(s.len(), 1);
-        let s = negative_stretches(g, &samples_with_minima(g, 0.3, 2.0, 50));
+        assert_eq!(dips(&g, 0.3, 1.2, 50).len(), 1);
+        let s = dips(&g, 0.3, 2.0, 50);
         assert_eq!(s.len(), 2);
-        assert!((s[0].0 - 0.3).abs() < 1e-15 && (s[0].1 - 0.75).abs() < 1e-12);
-        assert!((s[1].0 - 1.25).abs() < 1e-12 && (s[1].1 - 1.75).abs() < 1e-12);
+        assert!((s[0].start - 0.3).abs() < 1e-15 && (s[0].end - 0.75).abs() < 1e-12);
+        assert!((s[1].start - 1.25).abs() < 1e-12 && (s[1].end - 1.75).abs() < 1e-12);
+        assert!((s[1].worst + 1.0).abs() < 1e-15);
+    }
+
+    #[test]
+    fn equal_neighbour_minima_stay_in_order() {
+        // Samples at 0, 1, 2, 3, 4; those at 1 and 2 are equal and both
+        // local minima of the samples. Two dips (minima at 0.8 and 2.2):
+        let f = |x: f64| ((x - 1.5).abs() - 0.7).powi(2) - 1e-6;
+        let s = dips(&f, 0.0, 4.0, 4);
+        assert_eq!(s.len(), 2, "{s:?}");
+        assert!((s[0].worst_at - 0.8).abs() < 1e-7 && (s[1].worst_at - 2.2).abs() < 1e-7);
+        // One dip between them (minimum at 1.5), refined from both sides.
+        let g = |x: f64| (x - 1.5) * (x - 1.5) - 1e-6;
+        let s = dips(&g, 0.0, 4.0, 4);
+        assert_eq!(s.len(), 1, "{s:?}");
+        assert!((s[0].start - 1.499).abs() < 1e-12 && (s[0].end - 1.501).abs() < 1e-12);
     }
 }

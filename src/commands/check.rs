@@ -28,7 +28,7 @@ pub fn run(
             return Err(Failure::Invalid(diags));
         }
     };
-    let report = check_show(&show);
+    let report = check_show(&show).map_err(|e| Failure::Failed(e.to_string()))?;
     if json {
         report.write_json(out).map_err(io)?;
     } else {
