@@ -154,9 +154,8 @@ pub fn scan_prop(
             limit: Some(0.0),
             unit: Some("N"),
             message: format!(
-                "{name}: the tether goes slack for {dur:.3} s; the path needs a push of {:.3} N ({:.2} x the head's weight) at {}",
-                -t,
-                -t / weight,
+                "{name}: the tether goes slack for {dur:.3} s; the tension the path needs falls to {t:.3} N ({:.2} x the head's weight) at {}",
+                t / weight,
                 When::at_beat(show, at)
             ),
         });
