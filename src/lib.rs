@@ -8,6 +8,7 @@
 //! (the renderer) and `check` (the report).
 #![forbid(unsafe_code)]
 
+pub mod check;
 pub mod colour;
 pub mod commands;
 pub mod cues;

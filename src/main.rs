@@ -25,6 +25,17 @@ enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Validate the show and report tether tension, speeds, spin rates, reach, stage space, collisions and jumps.
+    Check {
+        /// The show file (TOML).
+        show: PathBuf,
+        /// Print one JSON object instead of a readable report.
+        #[arg(long)]
+        json: bool,
+        /// Fail (exit status 1) when there is any warning.
+        #[arg(long)]
+        deny_warnings: bool,
+    },
 }
 
 fn main() -> ExitCode {
@@ -33,6 +44,11 @@ fn main() -> ExitCode {
         Command::Events { show, json } => {
             commands::events::run(&show, json, &mut std::io::stdout().lock())
         }
+        Command::Check {
+            show,
+            json,
+            deny_warnings,
+        } => commands::check::run(&show, json, deny_warnings, &mut std::io::stdout().lock()),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -3,6 +3,7 @@
 //! Each command reads a show, runs the pipeline and writes its output; all
 //! return [`Failure`] on error so that the binary can map it to an exit code.
 
+pub mod check;
 pub mod events;
 
 use std::fmt;

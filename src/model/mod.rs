@@ -63,6 +63,8 @@ pub struct Prop {
     pub leds: u32,
     /// Mass of the head, kilograms (physics checks).
     pub head_mass_kg: f64,
+    /// Radius of the head, metres (collision checks; default 0.05).
+    pub head_radius_m: f64,
     /// Scale applied to linear LED values, 0..=1.
     pub brightness: f64,
 }

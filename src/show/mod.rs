@@ -22,6 +22,11 @@ use reader::{Ctx, Tbl, describe, join, list};
 
 /// The largest bar number a show may use.
 pub const MAX_BAR: i64 = 100_000;
+/// Head radius when a prop leaves out `head_radius_m`, metres: a typical
+/// LED poi head is 4 to 6 cm across... (see below).
+/// Head radius when a prop leaves out `head_radius_m`, metres: a head 10 cm
+/// across, on the generous side for LED poi (common practice).
+pub const DEFAULT_HEAD_RADIUS_M: f64 = 0.05;
 /// The largest show file read, bytes.
 pub const MAX_FILE_BYTES: u64 = 16 << 20;
 
@@ -34,6 +39,7 @@ const PROP_KEYS: &[&str] = &[
     "anchor_m",
     "leds",
     "head_mass_kg",
+    "head_radius_m",
     "brightness",
 ];
 const PATTERN_KEYS: &[&str] = &[
@@ -279,6 +285,9 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
         let mass = ctx
             .number_in(t, "head_mass_kg", false, 0.0, true, 20.0)
             .unwrap_or(0.15);
+        let head_radius = ctx
+            .number_in(t, "head_radius_m", false, 0.0, true, 1.0)
+            .unwrap_or(DEFAULT_HEAD_RADIUS_M);
         let brightness = ctx
             .number_in(t, "brightness", false, 0.0, false, 1.0)
             .unwrap_or(1.0);
@@ -290,6 +299,7 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
                 anchor_m,
                 leds,
                 head_mass_kg: mass,
+                head_radius_m: head_radius,
                 brightness,
             });
         }

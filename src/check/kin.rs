@@ -1,0 +1,201 @@
+//! Kinematics for the checks: hand and head position, velocity, acceleration
+//! and jerk in stage coordinates against time, and the show cut into pieces
+//! on which each prop's motion is smooth (one pattern, one tempo) or at rest.
+
+use nalgebra::Vector3;
+
+use crate::model::Show;
+use crate::motion::{Curve, PropMotion, Span};
+use crate::num;
+
+/// Position (m) and its first three time derivatives (m/s, m/s^2, m/s^3)
+/// of a prop's hand and head, stage coordinates.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Kin {
+    /// Hand: position, velocity, acceleration, jerk.
+    pub hand: [Vector3<f64>; 4],
+    /// Head: position, velocity, acceleration, jerk.
+    pub head: [Vector3<f64>; 4],
+}
+
+/// Position and first three derivatives against phase u of a sum of rotating
+/// terms, in the plane's own coordinates (metres per revolution^n).
+pub fn jet3(curve: &Curve, u: f64) -> [[f64; 2]; 4] {
+    let mut j = [[0.0; 2]; 4];
+    for r in curve.rotors() {
+        let w = std::f64::consts::TAU * r.turns;
+        let (s, c) = num::sin_cos(r.start_rad + w * u);
+        let a = r.radius_m;
+        let (a1, a2, a3) = (a * w, a * w * w, a * w * w * w);
+        j[0][0] += a * c;
+        j[0][1] += a * s;
+        j[1][0] -= a1 * s;
+        j[1][1] += a1 * c;
+        j[2][0] -= a2 * c;
+        j[2][1] -= a2 * s;
+        j[3][0] += a3 * s;
+        j[3][1] -= a3 * c;
+    }
+    j
+}
+
+fn to_stage(span: &Span, j: [[f64; 2]; 4], rate: f64) -> [Vector3<f64>; 4] {
+    let mut k = 1.0;
+    let mut out = [
+        span.to_stage(j[0]),
+        Vector3::zeros(),
+        Vector3::zeros(),
+        Vector3::zeros(),
+    ];
+    for n in 1..4 {
+        k *= rate;
+        out[n] = span.to_stage_dir(j[n]) * k;
+    }
+    out
+}
+
+impl Kin {
+    /// The state `s` beats into `span`, at a tempo of `beats_per_s`.
+    pub fn moving(span: &Span, beats_per_s: f64, s: f64) -> Kin {
+        let u = span.phase(s);
+        let rate = span.phase_per_beat() * beats_per_s;
+        Kin {
+            hand: to_stage(span, jet3(&span.hand, u), rate),
+            head: to_stage(span, jet3(&span.head, u), rate),
+        }
+    }
+
+    /// A prop at rest: hand still at `anchor`, head hanging `tether_m` below.
+    pub fn resting(anchor: Vector3<f64>, tether_m: f64) -> Kin {
+        let z = Vector3::zeros();
+        Kin {
+            hand: [anchor, z, z, z],
+            head: [anchor - Vector3::new(0.0, tether_m, 0.0), z, z, z],
+        }
+    }
+}
+
+/// A stretch of the show on which one prop's motion is smooth: one span at
+/// one tempo, or at rest.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Piece {
+    /// Global beat where it starts (0 = bar 1 beat 1).
+    pub start_beat: f64,
+    /// Global beat where it ends.
+    pub end_beat: f64,
+    /// Index into [`PropMotion::spans`], or `None` at rest.
+    pub span: Option<usize>,
+    /// Tempo on the piece, beats per second.
+    pub beats_per_s: f64,
+}
+
+/// Global beat where the show ends (the end of the last section).
+pub fn show_end_beat(show: &Show) -> f64 {
+    let last = show.sections.iter().map(|s| s.last_bar).max().unwrap_or(0);
+    show.tempo.beat_of_bar(last + 1)
+}
+
+/// The pieces of `motion` from bar 1 beat 1 to the end of the show, in
+/// order, covering it without gaps: spans split at tempo changes, rest between.
+pub fn pieces(show: &Show, motion: &PropMotion) -> Vec<Piece> {
+    let end = show_end_beat(show);
+    let changes: Vec<f64> = show.tempo.changes().map(|c| c.0).collect();
+    let rest = |a: f64, b: f64| Piece {
+        start_beat: a,
+        end_beat: b,
+        span: None,
+        beats_per_s: show.tempo.bpm_at_beat(a) / 60.0,
+    };
+    let mut out = Vec::new();
+    let mut cursor = 0.0;
+    for (i, span) in motion.spans.iter().enumerate() {
+        if span.start_beat > cursor {
+            out.push(rest(cursor, span.start_beat));
+        }
+        let mut cuts = vec![span.start_beat];
+        cuts.extend(
+            changes
+                .iter()
+                .copied()
+                .filter(|&b| b > span.start_beat && b < span.end_beat),
+        );
+        cuts.push(span.end_beat);
+        for w in cuts.windows(2) {
+            out.push(Piece {
+                start_beat: w[0],
+                end_beat: w[1],
+                span: Some(i),
+                beats_per_s: show.tempo.bpm_at_beat(w[0]) / 60.0,
+            });
+        }
+        cursor = span.end_beat;
+    }
+    if end > cursor {
+        out.push(rest(cursor, end));
+    }
+    out
+}
+
+/// Sample intervals for a search over `beats` beats of a curve whose finest
+/// detail turns `turns_per_beat` times per beat, at `per_turn` samples per
+/// turn (at least 16), as a float so that budgets can see huge counts.
+pub fn samples_needed(beats: f64, turns_per_beat: f64, per_turn: f64) -> f64 {
+    (beats * turns_per_beat.max(1.0) * per_turn)
+        .ceil()
+        .max(16.0)
+}
+
+/// A count from [`samples_needed`] as an integer (16 if it is not finite;
+/// callers check the budget first).
+pub fn sample_count(samples: f64) -> usize {
+    if samples.is_finite() && samples < 1e15 {
+        samples as usize
+    } else {
+        16
+    }
+}
+
+/// Turns per beat of the finest detail of a span's head path (pairs of terms).
+pub fn span_detail_per_beat(span: &Span) -> f64 {
+    span.head.finest_turns() * span.phase_per_beat().abs()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::motion::Rotor;
+
+    #[test]
+    fn jet3_matches_finite_differences() {
+        let c = Curve::new([
+            Rotor {
+                radius_m: 0.3,
+                turns: 1.0,
+                start_rad: 0.2,
+            },
+            Rotor {
+                radius_m: 0.1,
+                turns: -3.0,
+                start_rad: 1.0,
+            },
+        ]);
+        let h = 1e-6;
+        for &u in &[0.0, 0.13, 0.77] {
+            let j = jet3(&c, u);
+            let (a, b) = (jet3(&c, u - h), jet3(&c, u + h));
+            for n in 0..3 {
+                for k in 0..2 {
+                    let fd = (b[n][k] - a[n][k]) / (2.0 * h);
+                    let tol = 1e-5 * 10f64.powi(n as i32 * 2);
+                    assert!(
+                        (fd - j[n + 1][k]).abs() < tol,
+                        "order {n}, {fd} vs {}",
+                        j[n + 1][k]
+                    );
+                }
+            }
+            let old = c.jet(u);
+            assert_eq!([old.p, old.d1, old.d2], [j[0], j[1], j[2]]);
+        }
+    }
+}

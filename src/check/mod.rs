@@ -1,0 +1,169 @@
+//! The physics and stage checks of `glowscore check`.
+//!
+//! For every prop over the whole show (bar 1 beat 1 to the end of the last
+//! section, rest included): tether tension with the taut-tether model
+//! ([`tension`]) and where the tether goes slack, head speed and
+//! acceleration, spin rates against common practice ([`spin`]), reach and
+//! the stage space the show sweeps ([`reach`]); for every pair of props the
+//! closest approach of heads and tethers ([`collision`]); at every section
+//! boundary, heads that jump ([`jumps`]). [`report`] holds the result.
+//!
+//! Accuracy: smooth quantities are sampled at 64 samples per turn of the
+//! fastest relative rotation and their extremes refined by Brent's method on
+//! the analytic derivative to 1e-12 beats; distances between props are
+//! refined by golden-section search to 1e-12 beats (see [`search`]).
+
+pub mod collision;
+pub mod jumps;
+pub mod kin;
+pub mod prop;
+pub mod reach;
+pub mod report;
+pub mod search;
+pub mod spin;
+pub mod tension;
+
+pub use report::{CheckReport, PairFigures, PropFigures, Warning, WarningKind, When};
+
+use crate::model::Show;
+use crate::motion::{PropMotion, simulate};
+
+/// The limits and search density the checks use.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct CheckSettings {
+    /// Hand or tether spin rates above this warn, turns per second.
+    pub spin_limit_turns_per_s: f64,
+    /// Head jumps at a section boundary longer than this warn, metres.
+    pub jump_limit_m: f64,
+    /// Clear space added around the swept rectangle, metres.
+    pub clear_margin_m: f64,
+    /// Samples per turn of the fastest relative rotation in a search.
+    pub samples_per_turn: f64,
+}
+
+impl Default for CheckSettings {
+    fn default() -> Self {
+        CheckSettings {
+            spin_limit_turns_per_s: spin::COMMON_SPIN_LIMIT_TURNS_PER_S,
+            jump_limit_m: 0.01,
+            clear_margin_m: reach::CLEAR_MARGIN_M,
+            samples_per_turn: 64.0,
+        }
+    }
+}
+
+/// The most sample intervals one check may take: about half a minute of
+/// work on one core in release (the four-minute bench show takes under a
+/// million).
+pub const MAX_SAMPLES: f64 = 2e8;
+
+/// Why a show could not be checked.
+#[derive(Clone, Debug, PartialEq)]
+pub enum CheckError {
+    /// The searches would need more than [`MAX_SAMPLES`] samples (or a
+    /// pattern turns so fast that the count is not finite).
+    TooMuchWork {
+        /// Sample intervals needed.
+        samples: f64,
+    },
+}
+
+impl std::fmt::Display for CheckError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            CheckError::TooMuchWork { samples } => write!(
+                f,
+                "checking this show would take {samples:.3e} samples, more than the limit of {MAX_SAMPLES:.0e}: the show is too long or its patterns turn too fast"
+            ),
+        }
+    }
+}
+
+impl std::error::Error for CheckError {}
+
+/// Sample intervals the checks of `show` need, over all searches.
+pub fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSettings) -> f64 {
+    let mut total = 0.0;
+    for m in motions {
+        for piece in kin::pieces(show, m) {
+            if let Some(i) = piece.span {
+                // The extremes pass, and the slack pass where needed.
+                total += 2.0 * prop::piece_samples(&m.spans[i], &piece, settings);
+            }
+        }
+    }
+    for (i, a) in motions.iter().enumerate() {
+        for b in &motions[i + 1..] {
+            for sa in &a.spans {
+                if let Some(sb) = b.spans.iter().find(|s| s.section == sa.section) {
+                    total += 2.0 * collision::section_samples(sa, sb, settings);
+                }
+            }
+        }
+    }
+    total
+}
+
+/// Checks `show` with the default settings.
+pub fn check_show(show: &Show) -> Result<CheckReport, CheckError> {
+    check(show, &simulate(show), &CheckSettings::default())
+}
+
+/// Checks `show`, whose motion is `motions` (from [`simulate`]); refuses a
+/// show that would need more than [`MAX_SAMPLES`] samples.
+pub fn check(
+    show: &Show,
+    motions: &[PropMotion],
+    settings: &CheckSettings,
+) -> Result<CheckReport, CheckError> {
+    let samples = samples_needed(show, motions, settings);
+    if samples.is_nan() || samples > MAX_SAMPLES {
+        return Err(CheckError::TooMuchWork { samples });
+    }
+    let centre = reach::centre_line(show);
+    let scans: Vec<prop::PropScan> = motions
+        .iter()
+        .map(|m| prop::scan_prop(show, m, settings, centre))
+        .collect();
+    let mut pairs = Vec::new();
+    let mut warnings = Vec::new();
+    for (i, a) in motions.iter().enumerate() {
+        for b in &motions[i + 1..] {
+            let p = collision::scan_pair(show, a, b, settings);
+            pairs.push(p.figures);
+            warnings.extend(p.warnings);
+        }
+    }
+    let mut hands = reach::Bounds::default();
+    let mut heads = reach::Bounds::default();
+    let mut props = Vec::new();
+    for s in scans {
+        hands.merge(&s.hands);
+        heads.merge(&s.heads);
+        warnings.extend(s.warnings);
+        props.push(s.figures);
+    }
+    for m in motions {
+        warnings.extend(jumps::jumps(show, m, settings.jump_limit_m));
+    }
+    let start = show.tempo.start_s();
+    let mut report = CheckReport {
+        valid: true,
+        title: show.title.clone(),
+        duration_s: show.end_s() - start,
+        props,
+        pairs,
+        stage: (!motions.is_empty())
+            .then(|| reach::stage(centre, &hands, &heads, settings.clear_margin_m)),
+        limits: Some(report::Limits {
+            spin_rate_turns_per_s: settings.spin_limit_turns_per_s,
+            jump_m: settings.jump_limit_m,
+            gravity_m_s2: tension::G0,
+        }),
+        warnings,
+        errors: Vec::new(),
+        cautions: report::CAUTIONS.to_vec(),
+    };
+    report.finish();
+    Ok(report)
+}

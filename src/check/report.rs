@@ -1,0 +1,545 @@
+//! The check report: per-prop figures, pair figures, stage space and
+//! warnings, written as one JSON object or as readable text.
+//!
+//! The report is built to grow: other checks add fields to [`PropFigures`]
+//! (such as `peak_current_a`), kinds to [`WarningKind`] and warnings to
+//! [`CheckReport::warnings`]; [`CheckReport::finish`] sorts the warnings.
+
+use std::fmt;
+use std::io::{self, Write};
+
+use serde::Serialize;
+use serde::ser::{SerializeMap, Serializer};
+
+use crate::commands::round_to;
+use crate::model::Show;
+
+/// What a warning is about.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum WarningKind {
+    /// The tether tension drops below zero: the tether goes slack.
+    Slack,
+    /// A hand or head turns faster than people commonly sustain.
+    SpinRate,
+    /// Two props come closer than the sum of their head radii.
+    Collision,
+    /// A section boundary moves a head discontinuously.
+    Jump,
+}
+
+impl WarningKind {
+    /// The name used in JSON and text.
+    pub fn name(self) -> &'static str {
+        match self {
+            WarningKind::Slack => "slack",
+            WarningKind::SpinRate => "spin_rate",
+            WarningKind::Collision => "collision",
+            WarningKind::Jump => "jump",
+        }
+    }
+}
+
+fn r9<S: Serializer>(x: &f64, s: S) -> Result<S::Ok, S::Error> {
+    s.serialize_f64(round_to(*x, 9))
+}
+
+fn r9_pair<S: Serializer>(x: &[f64; 2], s: S) -> Result<S::Ok, S::Error> {
+    [round_to(x[0], 9), round_to(x[1], 9)].serialize(s)
+}
+
+fn r9_opt<S: Serializer>(x: &Option<f64>, s: S) -> Result<S::Ok, S::Error> {
+    match x {
+        Some(x) => s.serialize_f64(round_to(*x, 9)),
+        None => s.serialize_none(),
+    }
+}
+
+/// An instant of the show: seconds from frame 0, bar and beat (from 1).
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct When {
+    /// Seconds from frame 0.
+    #[serde(serialize_with = "r9")]
+    pub time_s: f64,
+    /// Bar, from 1.
+    pub bar: i64,
+    /// Beat within the bar, from 1, fractional.
+    #[serde(serialize_with = "r9")]
+    pub beat: f64,
+}
+
+impl When {
+    /// The instant at global beat `beat` (0 = bar 1 beat 1) of `show`.
+    pub fn at_beat(show: &Show, beat: f64) -> When {
+        let (bar, within) = show.tempo.bar_beat(beat);
+        When {
+            time_s: show.tempo.time_at_beat(beat),
+            bar,
+            beat: within,
+        }
+    }
+}
+
+impl fmt::Display for When {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(
+            f,
+            "bar {} beat {:.3} ({:.3} s)",
+            self.bar, self.beat, self.time_s
+        )
+    }
+}
+
+/// One warning: what, which prop, when, and a sentence saying it.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Warning {
+    /// What it is about.
+    pub kind: WarningKind,
+    /// The prop concerned (the first of two, for a collision).
+    pub prop: String,
+    /// The second prop, for a collision.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub other_prop: Option<String>,
+    /// Where it starts.
+    #[serde(flatten)]
+    pub at: When,
+    /// How long it lasts, seconds (none for an instant).
+    #[serde(serialize_with = "r9_opt", skip_serializing_if = "Option::is_none")]
+    pub duration_s: Option<f64>,
+    /// The figure at fault, in `unit` (the worst value over the stretch).
+    #[serde(serialize_with = "r9_opt", skip_serializing_if = "Option::is_none")]
+    pub value: Option<f64>,
+    /// The limit it is compared with, in `unit`.
+    #[serde(serialize_with = "r9_opt", skip_serializing_if = "Option::is_none")]
+    pub limit: Option<f64>,
+    /// Unit of `value` and `limit` (`N`, `m`, `turns/s`, ...).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub unit: Option<&'static str>,
+    /// A readable sentence.
+    pub message: String,
+}
+
+/// The physics figures of one prop over the whole show (bar 1 beat 1 to the
+/// end of the last section, rest included).
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct PropFigures {
+    /// The prop's name (the key of the JSON map).
+    #[serde(skip)]
+    pub name: String,
+    /// Highest head speed, m/s.
+    #[serde(serialize_with = "r9")]
+    pub max_speed_m_s: f64,
+    /// Where the head is fastest.
+    pub max_speed_at: Option<When>,
+    /// Highest head acceleration (motion only, without gravity), in units of
+    /// standard gravity g = 9.80665 m/s^2.
+    #[serde(serialize_with = "r9")]
+    pub max_acc_g: f64,
+    /// Where the head's acceleration is highest.
+    pub max_acc_at: Option<When>,
+    /// Lowest tether tension, newtons (negative: the tether would push).
+    #[serde(serialize_with = "r9")]
+    pub min_tension_n: f64,
+    /// Lowest tension in units of the head's weight (m g).
+    #[serde(serialize_with = "r9")]
+    pub min_tension_weights: f64,
+    /// Where the tension is lowest.
+    pub min_tension_at: Option<When>,
+    /// Highest tether tension, newtons.
+    #[serde(serialize_with = "r9")]
+    pub max_tension_n: f64,
+    /// Highest tension in units of the head's weight (m g).
+    #[serde(serialize_with = "r9")]
+    pub max_tension_weights: f64,
+    /// Where the tension is highest.
+    pub max_tension_at: Option<When>,
+    /// Total time the tether is slack, seconds.
+    #[serde(serialize_with = "r9")]
+    pub slack_s: f64,
+    /// Highest rate of the hand's fastest circular term, turns per second.
+    #[serde(serialize_with = "r9")]
+    pub max_hand_turns_per_s: f64,
+    /// Highest rate at which the tether turns, turns per second.
+    #[serde(serialize_with = "r9")]
+    pub max_head_turns_per_s: f64,
+    /// Farthest the head centre gets from the anchor, metres.
+    #[serde(serialize_with = "r9")]
+    pub reach_m: f64,
+    /// Where the head is farthest from the anchor.
+    pub reach_at: Option<When>,
+    /// Farthest the head centre gets from the performer's centre line
+    /// (horizontal distance), metres.
+    #[serde(serialize_with = "r9")]
+    pub reach_from_centre_m: f64,
+    /// Where the head is farthest from the centre line.
+    pub reach_from_centre_at: Option<When>,
+    /// Peak LED current, amperes (filled by the light checks; null until then).
+    #[serde(serialize_with = "r9_opt")]
+    pub peak_current_a: Option<f64>,
+}
+
+/// The closest approach of two props while both play a pattern.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct PairFigures {
+    /// The two props' names, in file order.
+    pub props: [String; 2],
+    /// Contact distance: the sum of the two head radii, metres.
+    #[serde(serialize_with = "r9")]
+    pub contact_m: f64,
+    /// Closest distance between the head centres, metres (null if the
+    /// two never move at the same time).
+    #[serde(serialize_with = "r9_opt")]
+    pub min_head_distance_m: Option<f64>,
+    /// Where the heads are closest.
+    pub min_head_distance_at: Option<When>,
+    /// Closest distance between the tethers as segments from hand to head
+    /// centre, metres.
+    #[serde(serialize_with = "r9_opt")]
+    pub min_tether_distance_m: Option<f64>,
+    /// Where the tethers are closest.
+    pub min_tether_distance_at: Option<When>,
+}
+
+/// A rectangle on the stage floor, metres (x to the audience's right, z
+/// toward the audience).
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct Rect {
+    /// Left edge (as the audience sees it), metres.
+    #[serde(serialize_with = "r9")]
+    pub x_min_m: f64,
+    /// Right edge, metres.
+    #[serde(serialize_with = "r9")]
+    pub x_max_m: f64,
+    /// Back edge (upstage), metres.
+    #[serde(serialize_with = "r9")]
+    pub z_min_m: f64,
+    /// Front edge (toward the audience), metres.
+    #[serde(serialize_with = "r9")]
+    pub z_max_m: f64,
+    /// x extent, metres.
+    #[serde(serialize_with = "r9")]
+    pub width_m: f64,
+    /// z extent, metres.
+    #[serde(serialize_with = "r9")]
+    pub depth_m: f64,
+}
+
+impl Rect {
+    /// The rectangle spanning x in `[x0, x1]` and z in `[z0, z1]`, metres.
+    pub fn new(x0: f64, x1: f64, z0: f64, z1: f64) -> Rect {
+        Rect {
+            x_min_m: x0,
+            x_max_m: x1,
+            z_min_m: z0,
+            z_max_m: z1,
+            width_m: x1 - x0,
+            depth_m: z1 - z0,
+        }
+    }
+
+    /// This rectangle grown by `m` metres on every side.
+    pub fn grown(&self, m: f64) -> Rect {
+        Rect::new(
+            self.x_min_m - m,
+            self.x_max_m + m,
+            self.z_min_m - m,
+            self.z_max_m + m,
+        )
+    }
+}
+
+/// The space the show needs on stage.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Stage {
+    /// The performer's centre line: the vertical through (x, z), metres,
+    /// the mean of the props' anchors.
+    #[serde(serialize_with = "r9_pair")]
+    pub centre_line_m: [f64; 2],
+    /// Floor rectangle swept by every hand and head (heads with their radius).
+    pub swept_m: Rect,
+    /// `swept_m` grown by `margin_m` on every side: the clear space to keep.
+    pub clear_space_m: Rect,
+    /// Margin added around the swept rectangle, metres.
+    #[serde(serialize_with = "r9")]
+    pub margin_m: f64,
+    /// Lowest point of any head surface (stage y), metres.
+    #[serde(serialize_with = "r9")]
+    pub lowest_head_m: f64,
+    /// Highest point of any head surface (y), metres.
+    #[serde(serialize_with = "r9")]
+    pub highest_head_m: f64,
+}
+
+/// The limits the checks used.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct Limits {
+    /// Spin rates above this warn, turns per second.
+    #[serde(serialize_with = "r9")]
+    pub spin_rate_turns_per_s: f64,
+    /// Head jumps longer than this warn, metres.
+    #[serde(serialize_with = "r9")]
+    pub jump_m: f64,
+    /// Standard gravity used, m/s^2.
+    #[serde(serialize_with = "r9")]
+    pub gravity_m_s2: f64,
+}
+
+/// An error that made the show invalid, for the JSON report.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct ErrorEntry {
+    /// What is wrong.
+    pub message: String,
+    /// The key path at fault (`prop.left.tether_m`), if known.
+    pub key: Option<String>,
+    /// Line in the show file, from 1, if known.
+    pub line: Option<usize>,
+    /// Column in the show file, from 1, if known.
+    pub column: Option<usize>,
+}
+
+/// Everything `glowscore check` reports about a show.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CheckReport {
+    /// True when the show file is valid (the figures are computed only then).
+    pub valid: bool,
+    /// The show's title.
+    pub title: String,
+    /// Bar 1 beat 1 to the end of the last section, seconds.
+    #[serde(serialize_with = "r9")]
+    pub duration_s: f64,
+    /// Per prop, in file order (a JSON object keyed by prop name).
+    #[serde(serialize_with = "props_as_map")]
+    pub props: Vec<PropFigures>,
+    /// Every pair of props, in file order.
+    pub pairs: Vec<PairFigures>,
+    /// The space the show needs (none for an invalid show).
+    pub stage: Option<Stage>,
+    /// The limits used.
+    pub limits: Option<Limits>,
+    /// Every warning, sorted by time, then kind, then prop.
+    pub warnings: Vec<Warning>,
+    /// Why the show is invalid (empty when valid).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub errors: Vec<ErrorEntry>,
+    /// The usual safety cautions, one sentence each.
+    pub cautions: Vec<&'static str>,
+}
+
+fn props_as_map<S: Serializer>(props: &[PropFigures], s: S) -> Result<S::Ok, S::Error> {
+    let mut m = s.serialize_map(Some(props.len()))?;
+    for p in props {
+        m.serialize_entry(&p.name, p)?;
+    }
+    m.end()
+}
+
+/// The cautions that end every report.
+pub const CAUTIONS: [&str; 4] = [
+    "Keep clear space around spinning props (at least the rectangle above) and check the venue's rules on distances to the audience.",
+    "Warn audiences about flashing light beforehand, and avoid flashing between 3 and 60 times per second near the audience.",
+    "Charge, carry and store lithium batteries as their maker says.",
+    "These figures come from a model: local codes, the venue and the LED and battery data sheets take precedence.",
+];
+
+impl CheckReport {
+    /// The report of an invalid show: `valid = false` and its errors.
+    pub fn invalid(diags: &crate::diag::Diagnostics) -> CheckReport {
+        let errors = diags
+            .0
+            .iter()
+            .map(|d| {
+                let loc = d.location();
+                ErrorEntry {
+                    message: d.message.clone(),
+                    key: d.key.clone(),
+                    line: loc.as_ref().map(|l| l.1),
+                    column: loc.as_ref().map(|l| l.2),
+                }
+            })
+            .collect();
+        CheckReport {
+            valid: false,
+            title: String::new(),
+            duration_s: 0.0,
+            props: Vec::new(),
+            pairs: Vec::new(),
+            stage: None,
+            limits: None,
+            warnings: Vec::new(),
+            errors,
+            cautions: CAUTIONS.to_vec(),
+        }
+    }
+
+    /// The figures of the prop called `name`, to fill in or read.
+    pub fn prop_mut(&mut self, name: &str) -> Option<&mut PropFigures> {
+        self.props.iter_mut().find(|p| p.name == name)
+    }
+
+    /// Sorts the warnings by time, then kind, then prop (call after adding).
+    pub fn finish(&mut self) {
+        self.warnings.sort_by(|a, b| {
+            a.at.time_s
+                .total_cmp(&b.at.time_s)
+                .then(a.kind.cmp(&b.kind))
+                .then(a.prop.cmp(&b.prop))
+                .then(a.other_prop.cmp(&b.other_prop))
+        });
+    }
+
+    /// Writes the report as pretty JSON and a newline.
+    pub fn write_json(&self, out: &mut dyn Write) -> io::Result<()> {
+        serde_json::to_writer_pretty(&mut *out, self)?;
+        writeln!(out)
+    }
+
+    /// Writes the report as readable text, ending with the cautions.
+    pub fn write_text(&self, out: &mut dyn Write) -> io::Result<()> {
+        if !self.valid {
+            writeln!(out, "The show is invalid ({} errors).", self.errors.len())?;
+            return Ok(());
+        }
+        writeln!(
+            out,
+            "Check of \"{}\": {:.3} s from bar 1 beat 1 to the end",
+            self.title, self.duration_s
+        )?;
+        for p in &self.props {
+            write_prop(out, p)?;
+        }
+        if !self.pairs.is_empty() {
+            writeln!(out, "\nPairs")?;
+        }
+        for p in &self.pairs {
+            write_pair(out, p)?;
+        }
+        if let Some(s) = &self.stage {
+            write_stage(out, s)?;
+        }
+        writeln!(out, "\nWarnings: {}", self.warnings.len())?;
+        for w in &self.warnings {
+            writeln!(
+                out,
+                "  {:>10.3} s  bar {} beat {:.3}  {:<9}  {}",
+                w.at.time_s,
+                w.at.bar,
+                w.at.beat,
+                w.kind.name(),
+                w.message
+            )?;
+        }
+        writeln!(out, "\nCautions")?;
+        for c in &self.cautions {
+            writeln!(out, "  - {c}")?;
+        }
+        Ok(())
+    }
+}
+
+fn at(w: &Option<When>) -> String {
+    match w {
+        Some(w) => format!("at {w}"),
+        None => String::new(),
+    }
+}
+
+fn write_prop(out: &mut dyn Write, p: &PropFigures) -> io::Result<()> {
+    writeln!(out, "\nProp {}", p.name)?;
+    writeln!(
+        out,
+        "  head speed     up to {:.3} m/s {}",
+        p.max_speed_m_s,
+        at(&p.max_speed_at)
+    )?;
+    writeln!(
+        out,
+        "  acceleration   up to {:.2} g {}",
+        p.max_acc_g,
+        at(&p.max_acc_at)
+    )?;
+    writeln!(
+        out,
+        "  tension        from {:.3} N ({:.2} x head weight) {}",
+        p.min_tension_n,
+        p.min_tension_weights,
+        at(&p.min_tension_at)
+    )?;
+    writeln!(
+        out,
+        "                 to {:.3} N ({:.2} x head weight) {}",
+        p.max_tension_n,
+        p.max_tension_weights,
+        at(&p.max_tension_at)
+    )?;
+    writeln!(out, "  slack          {:.3} s in all", p.slack_s)?;
+    writeln!(
+        out,
+        "  spin           hand up to {:.2} turns/s, head up to {:.2} turns/s",
+        p.max_hand_turns_per_s, p.max_head_turns_per_s
+    )?;
+    writeln!(
+        out,
+        "  reach          {:.3} m from the anchor {}",
+        p.reach_m,
+        at(&p.reach_at)
+    )?;
+    writeln!(
+        out,
+        "                 {:.3} m from the centre line {}",
+        p.reach_from_centre_m,
+        at(&p.reach_from_centre_at)
+    )?;
+    if let Some(a) = p.peak_current_a {
+        writeln!(out, "  LED current    peak {a:.3} A")?;
+    }
+    Ok(())
+}
+
+fn write_pair(out: &mut dyn Write, p: &PairFigures) -> io::Result<()> {
+    let [a, b] = &p.props;
+    match (p.min_head_distance_m, p.min_tether_distance_m) {
+        (Some(h), Some(t)) => {
+            writeln!(
+                out,
+                "  {a} and {b}: heads within {h:.3} m {}",
+                at(&p.min_head_distance_at)
+            )?;
+            writeln!(
+                out,
+                "  {:w$}  tethers within {t:.3} m {} (contact at {:.3} m)",
+                "",
+                at(&p.min_tether_distance_at),
+                p.contact_m,
+                w = a.len() + b.len() + 5
+            )
+        }
+        _ => writeln!(out, "  {a} and {b}: never move at the same time"),
+    }
+}
+
+fn write_stage(out: &mut dyn Write, s: &Stage) -> io::Result<()> {
+    let r = |r: &Rect| {
+        format!(
+            "x {:.3} to {:.3} m, z {:.3} to {:.3} m ({:.3} m wide, {:.3} m deep)",
+            r.x_min_m, r.x_max_m, r.z_min_m, r.z_max_m, r.width_m, r.depth_m
+        )
+    };
+    writeln!(out, "\nStage")?;
+    writeln!(
+        out,
+        "  centre line    x = {:.3} m, z = {:.3} m",
+        s.centre_line_m[0], s.centre_line_m[1]
+    )?;
+    writeln!(out, "  swept          {}", r(&s.swept_m))?;
+    writeln!(
+        out,
+        "  clear space    {} with a {:.2} m margin",
+        r(&s.clear_space_m),
+        s.margin_m
+    )?;
+    writeln!(
+        out,
+        "  head height    y = {:.3} to {:.3} m",
+        s.lowest_head_m, s.highest_head_m
+    )
+}
