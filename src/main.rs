@@ -25,6 +25,8 @@ enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Render a long-exposure picture of the show, or of some bars of it, as a PNG.
+    Preview(Box<commands::preview::PreviewArgs>),
 }
 
 fn main() -> ExitCode {
@@ -33,6 +35,7 @@ fn main() -> ExitCode {
         Command::Events { show, json } => {
             commands::events::run(&show, json, &mut std::io::stdout().lock())
         }
+        Command::Preview(args) => commands::preview::run(&args, &mut std::io::stdout().lock()),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

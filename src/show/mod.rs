@@ -25,6 +25,10 @@ pub const MAX_BAR: i64 = 100_000;
 /// The largest show file read, bytes.
 pub const MAX_FILE_BYTES: u64 = 16 << 20;
 
+/// Default glow of a prop's head in previews: standard deviation, millimetres
+/// (a diffused ball of about 50 mm photographed a few metres away).
+pub const DEFAULT_GLOW_SIGMA_MM: f64 = 12.0;
+
 const TOP_KEYS: &[&str] = &["show", "tempo", "prop", "pattern", "section", "cue"];
 const SHOW_KEYS: &[&str] = &["title", "frame_rate", "bpm", "beats_per_bar", "start_s"];
 const TEMPO_KEYS: &[&str] = &["bar", "bpm"];
@@ -35,6 +39,9 @@ const PROP_KEYS: &[&str] = &[
     "leds",
     "head_mass_kg",
     "brightness",
+    // Long-exposure previews:
+    "glow_sigma_mm",
+    "pwm_hz",
 ];
 const PATTERN_KEYS: &[&str] = &[
     "plane",
@@ -264,6 +271,13 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
         let brightness = ctx
             .number_in(t, "brightness", false, 0.0, false, 1.0)
             .unwrap_or(1.0);
+        // Long-exposure previews: glow size and the LED driver's PWM.
+        let glow_sigma_mm = ctx
+            .number_in(t, "glow_sigma_mm", false, 0.0, true, 500.0)
+            .unwrap_or(DEFAULT_GLOW_SIGMA_MM);
+        let pwm_hz = ctx
+            .number_in(t, "pwm_hz", false, 0.0, false, 1_000_000.0)
+            .unwrap_or(0.0);
         if let (Some(kind), Some(tether_m), Some(anchor_m)) = (kind, tether, anchor) {
             out.push(Prop {
                 name,
@@ -273,6 +287,8 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
                 leds,
                 head_mass_kg: mass,
                 brightness,
+                glow_sigma_mm,
+                pwm_hz,
             });
         }
     }
