@@ -204,9 +204,9 @@ fn make_camera(
 ) -> Result<Camera, PreviewError> {
     let points = if lit.is_empty() { all } else { lit };
     if let Some(ph) = opts.pinhole {
-        if opts.viewport.is_some() {
+        if opts.viewport.is_some() || opts.scale_bar {
             return Err(PreviewError::Options(
-                "--viewport is for orthographic views, not with --camera".into(),
+                "--viewport and --scale-bar are for orthographic views, not with --camera".into(),
             ));
         }
         let (w, h) = opts.size.unwrap_or(DEFAULT_SIZE);
@@ -326,6 +326,7 @@ pub fn develop(photo: &Photo, opts: &PreviewOptions) -> RgbImage {
     let bg = [lin.red as f32, lin.green as f32, lin.blue as f32];
     let mut img = tone::develop(&photo.film, photo.gain, bg);
     if opts.scale_bar && photo.camera.viewport().is_some() {
+        // Orthographic: one scale across the whole picture.
         overlay::scale_bar(&mut img, photo.camera.pixels_per_m(1.0).0);
     }
     img

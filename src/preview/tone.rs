@@ -5,10 +5,15 @@
 //! `k + (1 - k)(1 - exp(-(v - k)/(1 - k)))` rolls highlights off towards
 //! white instead of clipping them hard (per primary, so an over-exposed
 //! orange drifts towards yellow and white, as it does on a real sensor).
-//! The result is encoded to 8-bit sRGB (IEC 61966-2-1) with palette.
+//! The result is encoded to 8-bit sRGB (IEC 61966-2-1), correctly rounded:
+//! palette's fast table encoder is off by one code in places (linear 0.5244
+//! is code 191.56 by the standard's formula; it gives 191), so the codes
+//! come from a table of the standard's rounding thresholds instead, built
+//! once with libm.
+
+use std::sync::OnceLock;
 
 use image::RgbImage;
-use palette::{LinSrgb, Srgb};
 use rayon::prelude::*;
 
 use super::splat::Film;
@@ -30,11 +35,54 @@ pub fn shoulder(v: f32) -> f32 {
     KNEE + s * (1.0 - num::exp(-f64::from((v - KNEE) / s)) as f32)
 }
 
-/// 8-bit sRGB code of a linear value in [0, 1] (IEC 61966-2-1 transfer
-/// function, palette's table-driven encoder; out-of-range values clamp).
+/// IEC 61966-2-1 decoding of an sRGB value in [0, 1] to linear light.
+pub fn srgb_decode(v: f64) -> f64 {
+    if v <= 0.040_45 {
+        v / 12.92
+    } else {
+        num::pow((v + 0.055) / 1.055, 2.4)
+    }
+}
+
+/// Cells per unit of linear light in the encoder's first-guess grid.
+const GRID: usize = 4096;
+
+struct Encoder {
+    /// `thr[b]`: the smallest f32 whose code is `b` (`thr[0]` unused).
+    thr: [f32; 256],
+    /// Code of `i / GRID`, a first guess for values in that cell.
+    grid: Vec<u8>,
+}
+
+fn encoder() -> &'static Encoder {
+    static ENC: OnceLock<Encoder> = OnceLock::new();
+    ENC.get_or_init(|| {
+        let mut thr = [0.0f32; 256];
+        for (b, t) in thr.iter_mut().enumerate().skip(1) {
+            // Code b starts where the encoded value reaches (b - 1/2) / 255.
+            let exact = srgb_decode((b as f64 - 0.5) / 255.0);
+            let mut f = exact as f32;
+            if f64::from(f) < exact {
+                f = f32::from_bits(f.to_bits() + 1);
+            }
+            *t = f;
+        }
+        let slow = |v: f32| thr.iter().skip(1).take_while(|&&t| v >= t).count() as u8;
+        let grid = (0..=GRID).map(|i| slow(i as f32 / GRID as f32)).collect();
+        Encoder { thr, grid }
+    })
+}
+
+/// 8-bit sRGB code of a linear value (IEC 61966-2-1 transfer function,
+/// correctly rounded; values outside [0, 1] clamp).
 pub fn encode_srgb8(v: f32) -> u8 {
-    let c: Srgb<u8> = Srgb::from_linear(LinSrgb::new(v, 0.0, 0.0));
-    c.red
+    let enc = encoder();
+    let v = if v.is_nan() { 0.0 } else { v.clamp(0.0, 1.0) };
+    let mut b = enc.grid[(v * GRID as f32) as usize];
+    while b < 255 && v >= enc.thr[b as usize + 1] {
+        b += 1;
+    }
+    b
 }
 
 /// Gain (exposed linear value per LED-second) from the automatic meter:
