@@ -176,6 +176,64 @@ fn longer_path_spreads_the_same_light() {
     assert!(long_max < 0.5 * short_max, "{long_max} vs {short_max}");
 }
 
+/// A frame's light is spread along the path it covers (an LED holds its
+/// colour for the whole frame; common practice): a head at 6 m/s on 100
+/// frames/s moves 60 mm, five glow widths, per frame, yet the light per
+/// degree of a circle is even to 1 %, with no dot per frame (6-degree
+/// bins: 52 mm of arc, less than one frame's travel).
+#[test]
+fn fast_head_on_few_frames_leaves_a_smooth_trail() {
+    // Circle of 0.5 m at 6 m/s: one revolution (one bar of 4 beats) in
+    // pi / 6 s, so 4 beats x 60 / (pi / 6) bpm.
+    let bpm = 4.0 * 60.0 * 6.0 / std::f64::consts::PI;
+    let pattern = "plane = \"wall\"\nbeats = 4\nhand_radius_m = 0\nhead_turns = 1";
+    let s = setup(&one_prop(
+        bpm,
+        100,
+        "tether_m = 0.5",
+        pattern,
+        1,
+        "\"white\"",
+    ));
+    let view = [-0.7, 0.8, 0.7, 2.2];
+    let n = 1400u32;
+    let photo = shoot(
+        &s,
+        &ortho(
+            view,
+            n,
+            n,
+            Shutter {
+                bars: Some((1, 1)),
+                ..Shutter::default()
+            },
+        ),
+    );
+    let mut bins = [0.0f64; 60];
+    for y in 0..n {
+        for x in 0..n {
+            let v = f64::from(photo.film.pixel(x, y)[0]);
+            if v == 0.0 {
+                continue;
+            }
+            let px = -0.7 + (f64::from(x) + 0.5) * 1.4 / f64::from(n);
+            let py = 2.2 - (f64::from(y) + 0.5) * 1.4 / f64::from(n) - 1.5;
+            let a = glowscore::num::atan2(px, py).rem_euclid(std::f64::consts::TAU);
+            let b = ((a / std::f64::consts::TAU * 60.0) as usize).min(59);
+            bins[b] += v;
+        }
+    }
+    // The first and last 6 degrees hold the ends of the exposure (and the
+    // cue's last frame is dark from 0.52 s): leave them out.
+    let inner = &bins[1..59];
+    let max = inner.iter().copied().fold(0.0, f64::max);
+    let min = inner.iter().copied().fold(f64::INFINITY, f64::min);
+    assert!(
+        max / min < 1.01,
+        "light per 6 degrees varies from {min} to {max}"
+    );
+}
+
 /// Light per unit length across a straight-ish stretch of trail: the sum of
 /// the film along a cut across it, divided by the pixel's size along the cut.
 fn cut_column(film: &Film, x: u32, rows: std::ops::Range<u32>) -> f64 {

@@ -41,6 +41,8 @@ pub const MAX_PIXELS: u64 = 40_000_000;
 pub const DEFAULT_SIZE: (u32, u32) = (1600, 1200);
 /// Default vertical field of view of the pinhole camera, degrees.
 pub const DEFAULT_FOV_DEG: f64 = 40.0;
+/// Largest exposure compensation, stops either way.
+pub const MAX_EV_STOPS: f64 = 40.0;
 /// Default stage background, sRGB bytes: a dark, slightly blue stage.
 pub const DEFAULT_BACKGROUND: [u8; 3] = [10, 10, 14];
 
@@ -267,6 +269,12 @@ pub fn shoot(
     progress: &(dyn Fn(u64, u64) + Sync),
 ) -> Result<Photo, PreviewError> {
     let (t0, t1) = window(show, &opts.shutter)?;
+    if !(opts.ev_stops.is_finite() && opts.ev_stops.abs() <= MAX_EV_STOPS) {
+        return Err(PreviewError::Options(format!(
+            "--ev must be between -{MAX_EV_STOPS} and {MAX_EV_STOPS} stops, got {}",
+            opts.ev_stops
+        )));
+    }
     let needs_scout = opts.viewport.is_none() || opts.pinhole.is_some();
     let (lit, all) = if needs_scout {
         let scout = trail::pieces(show, motions, lights, t0, t1, &|_| SCOUT_SPACING_M)?;
