@@ -181,6 +181,9 @@ fn check_size(w: u32, h: u32) -> Result<(), PreviewError> {
     Ok(())
 }
 
+/// Points of light turned into glows and added at a time.
+const KERNEL_CHUNK: usize = 1 << 15;
+
 /// Spacing of the coarse pass that finds where the light is, metres.
 const SCOUT_SPACING_M: f64 = 0.02;
 
@@ -306,17 +309,24 @@ pub fn shoot(
         (g * g + blur * blur).sqrt()
     };
     let pieces = trail::pieces(show, motions, lights, t0, t1, &spacing)?;
+    // Glows are made and added in chunks, in order, to bound the memory.
     let (w, h) = (cam.width, cam.height);
-    let kernels: Vec<splat::Kernel> = pieces
-        .par_iter()
-        .filter_map(|p| {
-            let q = cam.project(&p.pos)?;
-            let g = show.props[p.prop].glow_sigma_mm / 1000.0;
-            let e = p.energy.map(|v| (v * q.gain) as f32);
-            splat::kernel(q.px, q.py, g * q.scale_x, g * q.scale_y, e, w, h)
-        })
-        .collect();
-    let film = splat::accumulate(w, h, &kernels, progress);
+    let mut film = Film::new(w, h);
+    let chunks = pieces.len().div_ceil(KERNEL_CHUNK).max(1) as u64;
+    for (i, chunk) in pieces.chunks(KERNEL_CHUNK).enumerate() {
+        let kernels: Vec<splat::Kernel> = chunk
+            .par_iter()
+            .filter_map(|p| {
+                let q = cam.project(&p.pos)?;
+                let g = show.props[p.prop].glow_sigma_mm / 1000.0;
+                let e = p.energy.map(|v| (v * q.gain) as f32);
+                splat::kernel(q.px, q.py, g * q.scale_x, g * q.scale_y, e, w, h)
+            })
+            .collect();
+        splat::accumulate_into(&mut film, &kernels, &|done, bands| {
+            progress(i as u64 * bands + done, chunks * bands)
+        });
+    }
     let gain = tone::metered_gain(film.max(), opts.ev_stops);
     Ok(Photo {
         film,

@@ -144,14 +144,10 @@ pub fn kernel(
     })
 }
 
-/// Adds every kernel to a dark film, in order; `progress(done, total)` is
+/// Adds every kernel to `film`, in order; `progress(done, total)` is
 /// called as bands of rows are finished (from any thread).
-pub fn accumulate(
-    width: u32,
-    height: u32,
-    kernels: &[Kernel],
-    progress: &(dyn Fn(u64, u64) + Sync),
-) -> Film {
+pub fn accumulate_into(film: &mut Film, kernels: &[Kernel], progress: &(dyn Fn(u64, u64) + Sync)) {
+    let (width, height) = (film.width, film.height);
     let bands = height.div_ceil(BAND_ROWS).max(1) as usize;
     let mut lists: Vec<Vec<u32>> = vec![Vec::new(); bands];
     for (k, kern) in kernels.iter().enumerate() {
@@ -163,7 +159,6 @@ pub fn accumulate(
     }
     let w = width as usize;
     let band_len = BAND_ROWS as usize * w;
-    let mut film = Film::new(width, height);
     let done = AtomicU64::new(0);
     let [r, g, b] = &mut film.planes;
     r.par_chunks_mut(band_len)
@@ -179,6 +174,17 @@ pub fn accumulate(
             let n = done.fetch_add(1, Ordering::Relaxed) + 1;
             progress(n, bands as u64);
         });
+}
+
+/// A film of `width` x `height` pixels exposed to every kernel, in order.
+pub fn accumulate(
+    width: u32,
+    height: u32,
+    kernels: &[Kernel],
+    progress: &(dyn Fn(u64, u64) + Sync),
+) -> Film {
+    let mut film = Film::new(width, height);
+    accumulate_into(&mut film, kernels, progress);
     film
 }
 

@@ -21,7 +21,7 @@ use crate::model::Show;
 use crate::motion::{PropMotion, Span, TempoMap};
 
 /// The most points of light one picture may be made of.
-pub const MAX_PIECES: usize = 20_000_000;
+pub const MAX_PIECES: usize = 8_000_000;
 /// The most LED frames one exposure may span, per prop.
 pub const MAX_FRAMES: u64 = 50_000_000;
 
