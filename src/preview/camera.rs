@@ -271,6 +271,7 @@ pub fn fit_viewport(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::model::Plane;
 
     #[test]
     fn ortho_maps_pixel_centres_as_the_contract_gives() {
@@ -281,6 +282,23 @@ mod tests {
         let y = 2.4 - (j + 0.5) * 2.0 / 200.0;
         let p = cam.project(&Vector3::new(x, y, 0.7)).unwrap();
         assert!((p.px - (i + 0.5)).abs() < 1e-9 && (p.py - (j + 0.5)).abs() < 1e-9);
+    }
+
+    #[test]
+    fn each_view_shows_its_planes_clock_running_clockwise() {
+        // Contract: a clock angle of 90 degrees lies along the plane's `right`
+        // and 0 along its `up`; seen from the front (wall), the audience's
+        // left (wheel) and above (floor), 3 o'clock is on the right and
+        // 12 o'clock at the top.
+        let cases = [
+            (View::Front, Plane::Wall),
+            (View::Side, Plane::Wheel),
+            (View::Top, Plane::Floor),
+        ];
+        for (view, plane) in cases {
+            assert_eq!(view.screen(&plane.right()), [1.0, 0.0], "{view:?}");
+            assert_eq!(view.screen(&plane.up()), [0.0, 1.0], "{view:?}");
+        }
     }
 
     #[test]
