@@ -19,4 +19,5 @@ pub mod model;
 pub mod motion;
 pub mod num;
 pub mod output;
+pub mod preview;
 pub mod show;

@@ -36,6 +36,8 @@ enum Command {
         #[arg(long)]
         deny_warnings: bool,
     },
+    /// Render a long-exposure picture of the show, or of some bars of it, as a PNG.
+    Preview(Box<commands::preview::PreviewArgs>),
 }
 
 fn main() -> ExitCode {
@@ -49,6 +51,7 @@ fn main() -> ExitCode {
             json,
             deny_warnings,
         } => commands::check::run(&show, json, deny_warnings, &mut std::io::stdout().lock()),
+        Command::Preview(args) => commands::preview::run(&args, &mut std::io::stdout().lock()),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -5,6 +5,7 @@
 
 pub mod check;
 pub mod events;
+pub mod preview;
 
 use std::fmt;
 

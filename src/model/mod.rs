@@ -67,6 +67,11 @@ pub struct Prop {
     pub head_radius_m: f64,
     /// Scale applied to linear LED values, 0..=1.
     pub brightness: f64,
+    // Long-exposure previews (`preview`):
+    /// Standard deviation of the head's glow (diffuser and lens blur), millimetres.
+    pub glow_sigma_mm: f64,
+    /// PWM frequency of the LED driver, hertz; 0 for a constant-current driver.
+    pub pwm_hz: f64,
 }
 
 /// A plane of motion: the two unit vectors of its clock.

@@ -30,6 +30,10 @@ pub const DEFAULT_HEAD_RADIUS_M: f64 = 0.05;
 /// The largest show file read, bytes.
 pub const MAX_FILE_BYTES: u64 = 16 << 20;
 
+/// Default glow of a prop's head in previews: standard deviation, millimetres
+/// (a diffused ball of about 50 mm photographed a few metres away).
+pub const DEFAULT_GLOW_SIGMA_MM: f64 = 12.0;
+
 const TOP_KEYS: &[&str] = &["show", "tempo", "prop", "pattern", "section", "cue"];
 const SHOW_KEYS: &[&str] = &["title", "frame_rate", "bpm", "beats_per_bar", "start_s"];
 const TEMPO_KEYS: &[&str] = &["bar", "bpm"];
@@ -41,6 +45,9 @@ const PROP_KEYS: &[&str] = &[
     "head_mass_kg",
     "head_radius_m",
     "brightness",
+    // Long-exposure previews:
+    "glow_sigma_mm",
+    "pwm_hz",
 ];
 const PATTERN_KEYS: &[&str] = &[
     "plane",
@@ -291,6 +298,13 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
         let brightness = ctx
             .number_in(t, "brightness", false, 0.0, false, 1.0)
             .unwrap_or(1.0);
+        // Long-exposure previews: glow size and the LED driver's PWM.
+        let glow_sigma_mm = ctx
+            .number_in(t, "glow_sigma_mm", false, 0.0, true, 500.0)
+            .unwrap_or(DEFAULT_GLOW_SIGMA_MM);
+        let pwm_hz = ctx
+            .number_in(t, "pwm_hz", false, 0.0, false, 1_000_000.0)
+            .unwrap_or(0.0);
         if let (Some(kind), Some(tether_m), Some(anchor_m)) = (kind, tether, anchor) {
             out.push(Prop {
                 name,
@@ -301,6 +315,8 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
                 head_mass_kg: mass,
                 head_radius_m: head_radius,
                 brightness,
+                glow_sigma_mm,
+                pwm_hz,
             });
         }
     }

@@ -1,0 +1,413 @@
+//! Long-exposure previews: the photo of a passage before anyone spins.
+//!
+//! The pipeline, one concept per file: [`trail`] (the light each head gives
+//! off, frame by frame, cut into points along its path), [`camera`] (where
+//! each point lands and how large the glow looks there), [`splat`] (the
+//! sensor: Gaussian glows summed in linear light, in parallel and in a fixed
+//! order), [`tone`] (metering, highlight shoulder, sRGB encoding),
+//! [`overlay`] (the scale bar) and [`png`] (the file).
+//!
+//! Light is measured in LED-seconds: a head at full power in one primary
+//! for one second gives 1 (times its number of LEDs). The film holds that
+//! per pixel; the exposure gain turns it into linear picture values.
+
+pub mod camera;
+pub mod overlay;
+pub mod png;
+pub mod splat;
+pub mod tone;
+pub mod trail;
+
+use std::path::{Path, PathBuf};
+
+use image::RgbImage;
+use nalgebra::Vector3;
+use rayon::prelude::*;
+
+pub use camera::{Camera, Pinhole, View};
+pub use png::write_png_atomic;
+pub use splat::Film;
+
+use crate::colour;
+use crate::cues::Lights;
+use crate::model::Show;
+use crate::motion::PropMotion;
+
+/// Largest picture side, pixels.
+pub const MAX_SIDE: u32 = 16_384;
+/// Largest picture area, pixels.
+pub const MAX_PIXELS: u64 = 40_000_000;
+/// Picture size when none is given, pixels.
+pub const DEFAULT_SIZE: (u32, u32) = (1600, 1200);
+/// Default vertical field of view of the pinhole camera, degrees.
+pub const DEFAULT_FOV_DEG: f64 = 40.0;
+/// Largest exposure compensation, stops either way.
+pub const MAX_EV_STOPS: f64 = 40.0;
+/// Default stage background, sRGB bytes: a dark, slightly blue stage.
+pub const DEFAULT_BACKGROUND: [u8; 3] = [10, 10, 14];
+
+/// Why a preview could not be made.
+#[derive(Debug, thiserror::Error)]
+pub enum PreviewError {
+    /// An option does not fit the show (bars outside it, an empty exposure...).
+    #[error("{0}")]
+    Options(String),
+    /// The picture or the exposure is larger than the renderer accepts.
+    #[error("{0}")]
+    TooLarge(String),
+    /// Writing a file failed.
+    #[error("cannot write `{path}`: {message}")]
+    Io {
+        /// The file.
+        path: String,
+        /// What went wrong.
+        message: String,
+    },
+    /// Encoding the PNG failed.
+    #[error("cannot encode the PNG: {0}")]
+    Encode(String),
+}
+
+/// When the shutter is open. Left out: the whole show.
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct Shutter {
+    /// First and last bar, inclusive (from 1): opens at the first, closes at
+    /// the end of the last.
+    pub bars: Option<(u32, u32)>,
+    /// Opening time, seconds from frame 0 (not with `bars`).
+    pub start_s: Option<f64>,
+    /// Exposure time, seconds from the opening.
+    pub exposure_s: Option<f64>,
+}
+
+/// How to take the picture.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PreviewOptions {
+    /// Width and height, pixels (`None`: [`DEFAULT_SIZE`], or 1600 wide at a
+    /// given viewport's aspect).
+    pub size: Option<(u32, u32)>,
+    /// The orthographic view (ignored with `pinhole`).
+    pub view: View,
+    /// [X0, Y0, X1, Y1] in the view's screen coordinates, metres (`None`:
+    /// fitted to the light with a margin).
+    pub viewport: Option<[f64; 4]>,
+    /// A perspective photo from this camera instead of an orthographic view.
+    pub pinhole: Option<Pinhole>,
+    /// When the shutter is open.
+    pub shutter: Shutter,
+    /// Exposure compensation from the automatic meter, stops (+1 doubles).
+    pub ev_stops: f64,
+    /// The stage behind the light, sRGB bytes.
+    pub background: [u8; 3],
+    /// Draws a scale bar in metres (orthographic views only).
+    pub scale_bar: bool,
+}
+
+impl Default for PreviewOptions {
+    fn default() -> Self {
+        PreviewOptions {
+            size: None,
+            view: View::Front,
+            viewport: None,
+            pinhole: None,
+            shutter: Shutter::default(),
+            ev_stops: 0.0,
+            background: DEFAULT_BACKGROUND,
+            scale_bar: false,
+        }
+    }
+}
+
+/// An exposed, undeveloped picture.
+#[derive(Clone, Debug)]
+pub struct Photo {
+    /// The light on the sensor.
+    pub film: Film,
+    /// The camera it was taken with (with the fitted viewport, if any).
+    pub camera: Camera,
+    /// Shutter open and close, seconds from frame 0.
+    pub window_s: (f64, f64),
+    /// Exposure gain from the meter: picture value per LED-second.
+    pub gain: f32,
+    /// Points of light the trails were cut into.
+    pub pieces: usize,
+}
+
+/// The shutter's open and close times for `shutter` in `show`, seconds.
+pub fn window(show: &Show, shutter: &Shutter) -> Result<(f64, f64), PreviewError> {
+    let last_bar = show.sections.iter().map(|s| s.last_bar).max().unwrap_or(0);
+    let err = |m: String| Err(PreviewError::Options(m));
+    if shutter.bars.is_some() && shutter.start_s.is_some() {
+        return err("give the opening as --bars or as --start-s, not both".into());
+    }
+    if let Some((a, b)) = shutter.bars
+        && !(1 <= a && a <= b && b <= last_bar)
+    {
+        return err(format!(
+            "--bars {a}-{b} is outside the show, which has bars 1 to {last_bar}"
+        ));
+    }
+    let end_s = show.end_s();
+    let start = match (shutter.start_s, shutter.bars) {
+        (Some(s), _) => s,
+        (None, Some((a, _))) => show.tempo.time_at_bar(a),
+        (None, None) => 0.0,
+    };
+    if !(start.is_finite() && start >= 0.0 && start < end_s) {
+        return err(format!(
+            "the shutter opens at {start} s, outside the show (0 to {end_s} s)"
+        ));
+    }
+    let end = match (shutter.exposure_s, shutter.bars) {
+        (Some(e), _) if e.is_finite() && e > 0.0 => start + e,
+        (Some(e), _) => return err(format!("--exposure-s must be more than 0, got {e}")),
+        (None, Some((_, b))) => show.tempo.time_at_bar(b + 1),
+        (None, None) => end_s,
+    };
+    Ok((start, end.min(end_s)))
+}
+
+fn check_size(w: u32, h: u32) -> Result<(), PreviewError> {
+    if w == 0 || h == 0 || w > MAX_SIDE || h > MAX_SIDE {
+        return Err(PreviewError::TooLarge(format!(
+            "a picture of {w}x{h} pixels: each side must be 1 to {MAX_SIDE}"
+        )));
+    }
+    if u64::from(w) * u64::from(h) > MAX_PIXELS {
+        return Err(PreviewError::TooLarge(format!(
+            "a picture of {w}x{h} pixels is larger than {MAX_PIXELS} pixels"
+        )));
+    }
+    Ok(())
+}
+
+/// Points of light turned into glows and added at a time.
+const KERNEL_CHUNK: usize = 1 << 15;
+
+/// Spacing of the coarse pass that finds where the light is, metres.
+const SCOUT_SPACING_M: f64 = 0.02;
+
+/// The bounding box of `points` in screen coordinates of `view`, or `None`.
+fn screen_box(view: View, points: &[Vector3<f64>]) -> Option<([f64; 2], [f64; 2])> {
+    let mut it = points.iter().map(|p| view.screen(p));
+    let first = it.next()?;
+    Some(it.fold((first, first), |(lo, hi), q| {
+        (
+            [lo[0].min(q[0]), lo[1].min(q[1])],
+            [hi[0].max(q[0]), hi[1].max(q[1])],
+        )
+    }))
+}
+
+/// The camera for `opts`, fitted where needed to the lit points `lit`
+/// (or to all head positions `all` when nothing is lit).
+fn make_camera(
+    show: &Show,
+    opts: &PreviewOptions,
+    lit: &[Vector3<f64>],
+    all: &[Vector3<f64>],
+) -> Result<Camera, PreviewError> {
+    let points = if lit.is_empty() { all } else { lit };
+    if let Some(ph) = opts.pinhole {
+        if opts.viewport.is_some() || opts.scale_bar {
+            return Err(PreviewError::Options(
+                "--viewport and --scale-bar are for orthographic views, not with --camera".into(),
+            ));
+        }
+        let (w, h) = opts.size.unwrap_or(DEFAULT_SIZE);
+        check_size(w, h)?;
+        let target = ph.look_at_m.unwrap_or_else(|| {
+            let n = points.len().max(1) as f64;
+            points.iter().fold(Vector3::zeros(), |a, p| a + p) / n
+        });
+        return Camera::pinhole(ph.eye_m, target, ph.fov_deg, w, h).ok_or_else(|| {
+            PreviewError::Options(format!(
+                "the camera at {:?} cannot look at {:?} with a field of view of {} degrees \
+                 (the eye must not be at the target; the field of view is between 0 and 180)",
+                ph.eye_m.as_slice(),
+                target.as_slice(),
+                ph.fov_deg
+            ))
+        });
+    }
+    if let Some(v) = opts.viewport {
+        if !(v.iter().all(|x| x.is_finite()) && v[2] > v[0] && v[3] > v[1]) {
+            return Err(PreviewError::Options(format!(
+                "--viewport {},{},{},{}: X1 must be greater than X0 and Y1 than Y0",
+                v[0], v[1], v[2], v[3]
+            )));
+        }
+        let (w, h) = opts.size.unwrap_or_else(|| {
+            let h = (1600.0 * (v[3] - v[1]) / (v[2] - v[0])).round();
+            (1600, h.clamp(1.0, f64::from(MAX_SIDE)) as u32)
+        });
+        check_size(w, h)?;
+        return Ok(Camera::ortho(opts.view, v, w, h));
+    }
+    let (w, h) = opts.size.unwrap_or(DEFAULT_SIZE);
+    check_size(w, h)?;
+    let glow_m = show
+        .props
+        .iter()
+        .map(|p| p.glow_sigma_mm / 1000.0)
+        .fold(0.0, f64::max);
+    let (lo, hi) = screen_box(opts.view, points).unwrap_or(([-1.0, 0.0], [1.0, 2.0]));
+    let extent = (hi[0] - lo[0]).max(hi[1] - lo[1]);
+    let margin = 4.0 * glow_m + 0.08 * extent + 0.05;
+    Ok(Camera::ortho(
+        opts.view,
+        camera::fit_viewport(lo, hi, margin, w, h),
+        w,
+        h,
+    ))
+}
+
+/// Exposes the film: every head's light in the shutter window of `opts`,
+/// seen by its camera. `progress(done, total)` is called as the work goes.
+pub fn shoot(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    opts: &PreviewOptions,
+    progress: &(dyn Fn(u64, u64) + Sync),
+) -> Result<Photo, PreviewError> {
+    let (t0, t1) = window(show, &opts.shutter)?;
+    if !(opts.ev_stops.is_finite() && opts.ev_stops.abs() <= MAX_EV_STOPS) {
+        return Err(PreviewError::Options(format!(
+            "--ev must be between -{MAX_EV_STOPS} and {MAX_EV_STOPS} stops, got {}",
+            opts.ev_stops
+        )));
+    }
+    let needs_scout = opts.viewport.is_none() || opts.pinhole.is_some();
+    let (lit, all) = if needs_scout {
+        let scout = trail::pieces(show, motions, lights, t0, t1, &|_| SCOUT_SPACING_M)?;
+        let lit: Vec<Vector3<f64>> = scout.iter().map(|p| p.pos).collect();
+        let all: Vec<Vector3<f64>> = if lit.is_empty() {
+            motions
+                .iter()
+                .map(|m| m.state_at(&show.tempo, 0.5 * (t0 + t1)).head_m)
+                .collect()
+        } else {
+            Vec::new()
+        };
+        (lit, all)
+    } else {
+        (Vec::new(), Vec::new())
+    };
+    let cam = make_camera(show, opts, &lit, &all)?;
+    // The nearest lit depth sets the finest pixel scale of a pinhole photo.
+    let near = lit
+        .iter()
+        .filter_map(|p| cam.depth(p))
+        .filter(|&z| z >= camera::NEAR_M)
+        .fold(f64::INFINITY, f64::min);
+    let (sx, sy) = cam.pixels_per_m(if near.is_finite() { near } else { 1.0 });
+    let px_m = 1.0 / sx.max(sy);
+    let spacing = |p: usize| {
+        let g = show.props[p].glow_sigma_mm / 1000.0;
+        let blur = splat::MIN_BLUR_PX * px_m;
+        (g * g + blur * blur).sqrt()
+    };
+    let pieces = trail::pieces(show, motions, lights, t0, t1, &spacing)?;
+    // Glows are made and added in chunks, in order, to bound the memory.
+    let (w, h) = (cam.width, cam.height);
+    let mut film = Film::new(w, h);
+    let chunks = pieces.len().div_ceil(KERNEL_CHUNK).max(1) as u64;
+    for (i, chunk) in pieces.chunks(KERNEL_CHUNK).enumerate() {
+        let kernels: Vec<splat::Kernel> = chunk
+            .par_iter()
+            .filter_map(|p| {
+                let q = cam.project(&p.pos)?;
+                let g = show.props[p.prop].glow_sigma_mm / 1000.0;
+                let e = p.energy.map(|v| (v * q.gain) as f32);
+                splat::kernel(q.px, q.py, g * q.scale_x, g * q.scale_y, e, w, h)
+            })
+            .collect();
+        splat::accumulate_into(&mut film, &kernels, &|done, bands| {
+            progress(i as u64 * bands + done, chunks * bands)
+        });
+    }
+    let gain = tone::metered_gain(film.max(), opts.ev_stops);
+    Ok(Photo {
+        film,
+        camera: cam,
+        window_s: (t0, t1),
+        gain,
+        pieces: pieces.len(),
+    })
+}
+
+/// Develops `photo` into the 8-bit sRGB picture (with the scale bar if asked).
+pub fn develop(photo: &Photo, opts: &PreviewOptions) -> RgbImage {
+    let bg = opts.background;
+    let lin = colour::to_linear(palette::Srgb::new(bg[0], bg[1], bg[2]));
+    let bg = [lin.red as f32, lin.green as f32, lin.blue as f32];
+    let mut img = tone::develop(&photo.film, photo.gain, bg);
+    if opts.scale_bar && photo.camera.viewport().is_some() {
+        // Orthographic: one scale across the whole picture.
+        overlay::scale_bar(&mut img, photo.camera.pixels_per_m(1.0).0);
+    }
+    img
+}
+
+/// Renders the long-exposure picture of `opts`: 8-bit sRGB.
+pub fn render(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    opts: &PreviewOptions,
+) -> Result<RgbImage, PreviewError> {
+    let photo = shoot(show, motions, lights, opts, &|_, _| {})?;
+    Ok(develop(&photo, opts))
+}
+
+/// File name of the preview of bars `a`-`b` written by [`write_previews`].
+pub fn section_file_name(a: u32, b: u32) -> String {
+    format!("preview-bars-{a}-{b}.png")
+}
+
+/// File name of the whole-show preview written by [`write_previews`].
+pub const SHOW_FILE_NAME: &str = "preview.png";
+
+/// Renders the whole show ([`SHOW_FILE_NAME`]) and each section
+/// ([`section_file_name`]) into `dir`, all framed like the whole show
+/// (unless `opts` fixes the viewport or the camera). Everything is rendered
+/// before anything is written; each file is written atomically. The
+/// shutter of `opts` is ignored. Returns the files written, show first.
+pub fn write_previews(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    dir: &Path,
+    opts: &PreviewOptions,
+) -> Result<Vec<PathBuf>, PreviewError> {
+    let mut whole = opts.clone();
+    whole.shutter = Shutter::default();
+    let photo = shoot(show, motions, lights, &whole, &|_, _| {})?;
+    let mut pictures = vec![(dir.join(SHOW_FILE_NAME), develop(&photo, &whole))];
+    let mut framed = whole.clone();
+    if framed.pinhole.is_none() {
+        framed.viewport = photo.camera.viewport().map(|v| v.1);
+        framed.size = Some((photo.camera.width, photo.camera.height));
+    } else if let (Some(ph), Some((_, target))) =
+        (framed.pinhole.as_mut(), photo.camera.eye_and_target())
+    {
+        ph.look_at_m = Some(target);
+        framed.size = Some((photo.camera.width, photo.camera.height));
+    }
+    for sec in &show.sections {
+        let mut o = framed.clone();
+        o.shutter.bars = Some((sec.first_bar, sec.last_bar));
+        let img = render(show, motions, lights, &o)?;
+        pictures.push((
+            dir.join(section_file_name(sec.first_bar, sec.last_bar)),
+            img,
+        ));
+    }
+    let mut written = Vec::new();
+    for (path, img) in pictures {
+        write_png_atomic(&path, &img)?;
+        written.push(path);
+    }
+    Ok(written)
+}
