@@ -46,6 +46,12 @@ pub fn cbrt(x: f64) -> f64 {
     libm::cbrt(x)
 }
 
+/// Error function of `x` (libm).
+#[inline]
+pub fn erf(x: f64) -> f64 {
+    libm::erf(x)
+}
+
 /// Degrees to radians.
 #[inline]
 pub fn rad(deg: f64) -> f64 {

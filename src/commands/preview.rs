@@ -136,7 +136,9 @@ pub fn parse_view(s: &str) -> Result<View, String> {
 
 /// Parses a background colour.
 pub fn parse_background(s: &str) -> Result<[u8; 3], String> {
-    crate::colour::parse_colour(s).map(|c| [c.red, c.green, c.blue])
+    crate::colour::parse_colour(s)
+        .map(|c| [c.red, c.green, c.blue])
+        .map_err(|e| e.to_string())
 }
 
 impl PreviewArgs {

@@ -84,7 +84,7 @@ pub struct Kernel {
 
 /// Standard normal distribution function (via libm's erf).
 fn phi(x: f64) -> f64 {
-    0.5 * (1.0 + libm::erf(x * std::f64::consts::FRAC_1_SQRT_2))
+    0.5 * (1.0 + crate::num::erf(x * std::f64::consts::FRAC_1_SQRT_2))
 }
 
 /// The weights of a Gaussian of standard deviation `sigma_px` centred at

@@ -738,12 +738,8 @@ fn colours(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Vec<[u8; 3]>> {
         match crate::colour::parse_colour(s) {
             Ok(c) => out.push([c.red, c.green, c.blue]),
             Err(e) => {
-                ctx.error_help(
-                    &path,
-                    v.span(),
-                    e.to_string(),
-                    "write `#rrggbb` or a CSS colour name such as `orange`",
-                );
+                // The message names the accepted forms and any close match.
+                ctx.error(&path, v.span(), e.to_string());
             }
         }
     }
