@@ -11,6 +11,7 @@
 pub mod check;
 pub mod colour;
 pub mod commands;
+pub mod compile;
 pub mod cues;
 pub mod diag;
 pub mod events;

@@ -17,6 +17,23 @@ struct Cli {
 
 #[derive(Subcommand)]
 enum Command {
+    /// Compile the show into per-prop frame tables (CSV, binary, C header), previews and report.json.
+    Compile {
+        /// The show file (TOML).
+        show: PathBuf,
+        /// Output folder (default: out/<show name>).
+        #[arg(long, value_name = "DIR")]
+        out: Option<PathBuf>,
+        /// Landing tolerance along the head's path, millimetres.
+        #[arg(long, default_value_t = 10.0, allow_hyphen_values = true)]
+        tolerance_mm: f64,
+        /// Which binary form the C header embeds.
+        #[arg(long, value_enum, default_value_t = HeaderForm::Compact)]
+        header_form: HeaderForm,
+        /// Skip the preview pictures.
+        #[arg(long)]
+        no_previews: bool,
+    },
     /// Print every event of the show (tips, inner points, stalls, angles, beats, bars), sorted by time.
     Events {
         /// The show file (TOML).
@@ -40,9 +57,38 @@ enum Command {
     Preview(Box<commands::preview::PreviewArgs>),
 }
 
+/// The binary form embedded in the C header.
+#[derive(Clone, Copy, clap::ValueEnum)]
+enum HeaderForm {
+    /// Every frame.
+    Full,
+    /// Runs and fades.
+    Compact,
+}
+
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match cli.command {
+        Command::Compile {
+            show,
+            out,
+            tolerance_mm,
+            header_form,
+            no_previews,
+        } => {
+            let form = match header_form {
+                HeaderForm::Full => glowscore::output::TableForm::Full,
+                HeaderForm::Compact => glowscore::output::TableForm::Compact,
+            };
+            commands::compile::run(
+                &show,
+                out.as_deref(),
+                tolerance_mm,
+                form,
+                !no_previews,
+                &mut std::io::stderr().lock(),
+            )
+        }
         Command::Events { show, json } => {
             commands::events::run(&show, json, &mut std::io::stdout().lock())
         }

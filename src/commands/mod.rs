@@ -4,6 +4,7 @@
 //! return [`Failure`] on error so that the binary can map it to an exit code.
 
 pub mod check;
+pub mod compile;
 pub mod events;
 pub mod preview;
 

@@ -67,6 +67,8 @@ pub struct Prop {
     pub head_radius_m: f64,
     /// Scale applied to linear LED values, 0..=1.
     pub brightness: f64,
+    /// Byte order of each LED's channels in the binary tables and C header.
+    pub wire_order: crate::output::WireOrder,
     // Long-exposure previews (`preview`):
     /// Standard deviation of the head's glow (diffuser and lens blur), millimetres.
     pub glow_sigma_mm: f64,

@@ -18,6 +18,7 @@ use crate::model::{
     Cue, EventKind, Pattern, Placement, Plane, Prop, PropKind, Section, Show, Term,
 };
 use crate::motion::TempoMap;
+use crate::output::WireOrder;
 use reader::{Ctx, Tbl, describe, join, list};
 
 /// The largest bar number a show may use.
@@ -45,6 +46,7 @@ const PROP_KEYS: &[&str] = &[
     "head_mass_kg",
     "head_radius_m",
     "brightness",
+    "wire_order",
     // Long-exposure previews:
     "glow_sigma_mm",
     "pwm_hz",
@@ -298,6 +300,23 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
         let brightness = ctx
             .number_in(t, "brightness", false, 0.0, false, 1.0)
             .unwrap_or(1.0);
+        let wire_order = match ctx.string(t, "wire_order", false) {
+            None => Some(WireOrder::Rgb),
+            Some((w, sp)) => {
+                let order = WireOrder::from_name(&w);
+                if order.is_none() {
+                    unknown_name(
+                        ctx,
+                        &t.key_path("wire_order"),
+                        sp,
+                        "wire order",
+                        &w,
+                        WireOrder::names(),
+                    );
+                }
+                order
+            }
+        };
         // Long-exposure previews: glow size and the LED driver's PWM.
         let glow_sigma_mm = ctx
             .number_in(t, "glow_sigma_mm", false, 0.0, true, 500.0)
@@ -305,7 +324,9 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
         let pwm_hz = ctx
             .number_in(t, "pwm_hz", false, 0.0, false, 1_000_000.0)
             .unwrap_or(0.0);
-        if let (Some(kind), Some(tether_m), Some(anchor_m)) = (kind, tether, anchor) {
+        if let (Some(kind), Some(tether_m), Some(anchor_m), Some(wire_order)) =
+            (kind, tether, anchor, wire_order)
+        {
             out.push(Prop {
                 name,
                 kind,
@@ -315,6 +336,7 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
                 head_mass_kg: mass,
                 head_radius_m: head_radius,
                 brightness,
+                wire_order,
                 glow_sigma_mm,
                 pwm_hz,
             });

@@ -1,0 +1,101 @@
+//! `glowscore compile`: the show into tables, previews and `report.json`.
+
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+use super::Failure;
+use crate::compile::{CompileOptions, compile};
+use crate::output::TableForm;
+
+/// The folder outputs go to when `--out` is not given: `out/<show name>`.
+pub fn default_out_dir(show: &Path) -> PathBuf {
+    let stem = show
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "show".into());
+    PathBuf::from("out").join(stem)
+}
+
+/// Compiles the show at `path` and prints a short summary to `log`.
+pub fn run(
+    path: &Path,
+    out: Option<&Path>,
+    tolerance_mm: f64,
+    header_form: TableForm,
+    previews: bool,
+    log: &mut dyn Write,
+) -> Result<(), Failure> {
+    if !(tolerance_mm.is_finite() && tolerance_mm > 0.0) {
+        return Err(Failure::Failed(format!(
+            "--tolerance-mm must be a positive number of millimetres, got {tolerance_mm}"
+        )));
+    }
+    let show = crate::show::load(path)?;
+    let dir = out
+        .map(Path::to_path_buf)
+        .unwrap_or_else(|| default_out_dir(path));
+    let mut opts = CompileOptions::new(dir.clone());
+    opts.tolerance_mm = tolerance_mm;
+    opts.header_form = header_form;
+    opts.previews = previews;
+    let (summary, _report) = compile(&show, &opts).map_err(|e| Failure::Failed(e.to_string()))?;
+    let io = |e: std::io::Error| Failure::Failed(format!("cannot write the summary: {e}"));
+    writeln!(
+        log,
+        "compiled `{}`: {} frames at {} frames/s ({:.2} s) into {}",
+        if summary.title.is_empty() {
+            path.display().to_string()
+        } else {
+            summary.title.clone()
+        },
+        summary.frames,
+        summary.frame_rate_hz,
+        summary.duration_s,
+        dir.display()
+    )
+    .map_err(io)?;
+    for (name, t) in &summary.tables {
+        writeln!(
+            log,
+            "  {name}: {} LED{} ({}), full table {} B, compact {} B, C header {} B, CSV {} B",
+            t.leds,
+            if t.leds == 1 { "" } else { "s" },
+            t.wire_order,
+            t.full.bytes,
+            t.compact.bytes,
+            t.header.bytes,
+            t.csv.bytes
+        )
+        .map_err(io)?;
+    }
+    if let Some(w) = &summary.worst_landing {
+        let cue = &show.cues[w.cue];
+        writeln!(
+            log,
+            "  worst landing: {:.2} mm along the path ({:+.3} ms, {:.2} deg of tether turn), cue {} (`{}` on `{}`)",
+            w.error_mm,
+            w.error_ms,
+            w.error_deg,
+            w.cue,
+            cue.at.name(),
+            show.props[w.prop].name
+        )
+        .map_err(io)?;
+    }
+    if !summary.previews.is_empty() {
+        writeln!(log, "  previews: {}", summary.previews.join(", ")).map_err(io)?;
+    }
+    writeln!(
+        log,
+        "  {} warning{} in report.json{}",
+        summary.warnings,
+        if summary.warnings == 1 { "" } else { "s" },
+        if summary.warnings > 0 {
+            " (run `glowscore check` to read them)"
+        } else {
+            ""
+        }
+    )
+    .map_err(io)?;
+    Ok(())
+}

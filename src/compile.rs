@@ -1,0 +1,336 @@
+//! The main job: a show compiled into per-prop frame tables, previews and a
+//! report, written so that a failed run leaves earlier outputs untouched.
+//!
+//! Everything is first written into a staging folder inside the output
+//! folder; only when every file is complete are they renamed into place.
+//! Tables are streamed frame by frame (one frame buffer per prop), one prop
+//! per thread.
+
+use std::fs::{self, File};
+use std::io::{BufWriter, Write};
+use std::path::{Path, PathBuf};
+
+use rayon::prelude::*;
+use serde::Serialize;
+
+use crate::check::{CheckReport, CheckSettings};
+use crate::cues::{self, Landing, Lights, PropLights};
+use crate::events::find_events;
+use crate::model::Show;
+use crate::motion::{PropMotion, simulate};
+use crate::output::{
+    CHeaderWriter, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, OutputError,
+    TableForm, TableSpec, WriteStats,
+};
+use crate::preview::{self, PreviewOptions};
+
+/// Most frames a show may have.
+pub const MAX_FRAMES: u64 = 100_000_000;
+/// Most bytes all full binary tables of a show may take together (2 GiB).
+pub const MAX_TABLE_BYTES: u64 = 2 << 30;
+
+/// How to compile.
+#[derive(Clone, Debug)]
+pub struct CompileOptions {
+    /// The folder the outputs go to (created if missing).
+    pub out_dir: PathBuf,
+    /// Landing tolerance along the head's path, millimetres.
+    pub tolerance_mm: f64,
+    /// Which binary form the C header embeds.
+    pub header_form: TableForm,
+    /// Whether to render previews (one per section and one of the whole show).
+    pub previews: bool,
+    /// How to render them.
+    pub preview: PreviewOptions,
+}
+
+impl CompileOptions {
+    /// Defaults for output folder `out_dir`: 10 mm tolerance, compact C
+    /// header, previews on.
+    pub fn new(out_dir: PathBuf) -> Self {
+        CompileOptions {
+            out_dir,
+            tolerance_mm: 10.0,
+            header_form: TableForm::Compact,
+            previews: true,
+            preview: PreviewOptions::default(),
+        }
+    }
+}
+
+/// One file written, and its size.
+#[derive(Clone, Debug, Serialize)]
+pub struct FileInfo {
+    /// File name inside the output folder.
+    pub file: String,
+    /// Size in bytes.
+    pub bytes: u64,
+    /// CRC-32 stored in a binary table's trailer.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub crc32: Option<String>,
+}
+
+/// The tables of one prop.
+#[derive(Clone, Debug, Serialize)]
+pub struct PropTables {
+    /// LEDs per frame.
+    pub leds: u32,
+    /// Byte order on the wire (binary forms and C header).
+    pub wire_order: &'static str,
+    /// `P.csv`.
+    pub csv: FileInfo,
+    /// `P.full.bin`, every frame.
+    pub full: FileInfo,
+    /// `P.compact.bin`, runs and fades.
+    pub compact: FileInfo,
+    /// `P.h`, the C header.
+    pub header: FileInfo,
+}
+
+/// What a compile produced.
+#[derive(Clone, Debug, Serialize)]
+pub struct CompileSummary {
+    /// Show title.
+    pub title: String,
+    /// Frames per second.
+    pub frame_rate_hz: u32,
+    /// Frames in every table.
+    pub frames: u64,
+    /// Length of the show, seconds.
+    pub duration_s: f64,
+    /// Tables per prop, in prop order.
+    pub tables: Vec<(String, PropTables)>,
+    /// Preview file names.
+    pub previews: Vec<String>,
+    /// The landing furthest along the head's path, if any change was placed.
+    #[serde(skip)]
+    pub worst_landing: Option<Landing>,
+    /// Warnings in the check report.
+    pub warnings: usize,
+}
+
+/// Why a compile failed.
+#[derive(Debug, thiserror::Error)]
+pub enum CompileError {
+    /// The show is larger than the limits.
+    #[error("{0}")]
+    TooLarge(String),
+    /// Writing failed.
+    #[error("{0}")]
+    Io(String),
+    /// A table writer refused its input.
+    #[error("{0}")]
+    Table(#[from] OutputError),
+    /// The check could not run.
+    #[error("{0}")]
+    Check(String),
+    /// A preview could not be rendered.
+    #[error("{0}")]
+    Preview(#[from] preview::PreviewError),
+}
+
+/// Refuses a show whose tables would exceed [`MAX_FRAMES`] or
+/// [`MAX_TABLE_BYTES`], before anything is allocated.
+pub fn check_limits(show: &Show) -> Result<u32, CompileError> {
+    let frames = show.frame_count();
+    let bytes: u64 = show
+        .props
+        .iter()
+        .map(|p| frames.saturating_mul(u64::from(p.leds) * p.wire_order.bytes_per_led() as u64))
+        .sum();
+    if frames > MAX_FRAMES || bytes > MAX_TABLE_BYTES {
+        let leds: u32 = show.props.iter().map(|p| p.leds).sum();
+        return Err(CompileError::TooLarge(format!(
+            "the tables would be too large: {frames} frames ({:.1} s at {} frames/s) x {leds} LEDs \
+             in all = {bytes} bytes; the limits are {MAX_FRAMES} frames and {MAX_TABLE_BYTES} bytes \
+             (lower `show.frame_rate`, shorten the show or use fewer LEDs)",
+            show.end_s(),
+            show.frame_rate_hz
+        )));
+    }
+    Ok(frames as u32)
+}
+
+/// Compiles `show` into `opts.out_dir`.
+pub fn compile(
+    show: &Show,
+    opts: &CompileOptions,
+) -> Result<(CompileSummary, CheckReport), CompileError> {
+    let frames = check_limits(show)?;
+    let motions = simulate(show);
+    let events = find_events(show, &motions);
+    let lights = cues::place(show, &motions, &events);
+    let settings = CheckSettings {
+        ..CheckSettings::default()
+    };
+    let report = crate::check::check(show, &motions, &settings)
+        .map_err(|e| CompileError::Check(e.to_string()))?;
+
+    let io = |what: &Path, e: std::io::Error| {
+        CompileError::Io(format!("cannot write `{}`: {e}", what.display()))
+    };
+    fs::create_dir_all(&opts.out_dir).map_err(|e| io(&opts.out_dir, e))?;
+    let staging = opts
+        .out_dir
+        .join(format!(".glowscore-staging-{}", std::process::id()));
+    let _ = fs::remove_dir_all(&staging);
+    fs::create_dir(&staging).map_err(|e| io(&staging, e))?;
+    let result = write_all(show, &motions, &lights, &report, opts, frames, &staging);
+    let outcome = result.and_then(|summary| {
+        let mut names: Vec<String> = summary
+            .tables
+            .iter()
+            .flat_map(|(_, t)| [&t.csv, &t.full, &t.compact, &t.header].map(|f| f.file.clone()))
+            .collect();
+        names.extend(summary.previews.iter().cloned());
+        names.push("report.json".into());
+        for name in &names {
+            let to = opts.out_dir.join(name);
+            fs::rename(staging.join(name), &to).map_err(|e| io(&to, e))?;
+        }
+        Ok(summary)
+    });
+    let _ = fs::remove_dir_all(&staging);
+    outcome.map(|s| (s, report))
+}
+
+fn write_all(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    report: &CheckReport,
+    opts: &CompileOptions,
+    frames: u32,
+    dir: &Path,
+) -> Result<CompileSummary, CompileError> {
+    let tables: Vec<(String, PropTables)> = lights
+        .props
+        .par_iter()
+        .map(|pl| {
+            write_prop(show, pl, frames, opts.header_form, dir)
+                .map(|t| (show.props[pl.prop].name.clone(), t))
+        })
+        .collect::<Result<_, _>>()?;
+    let previews = if opts.previews {
+        preview::write_previews(show, motions, lights, dir, &opts.preview)?
+            .iter()
+            .filter_map(|p| p.file_name().map(|n| n.to_string_lossy().into_owned()))
+            .collect()
+    } else {
+        Vec::new()
+    };
+    let worst_landing = lights
+        .landings
+        .iter()
+        .max_by(|a, b| a.error_mm.total_cmp(&b.error_mm))
+        .cloned();
+    let summary = CompileSummary {
+        title: show.title.clone(),
+        frame_rate_hz: show.frame_rate_hz,
+        frames: u64::from(frames),
+        duration_s: show.end_s(),
+        tables,
+        previews,
+        worst_landing,
+        warnings: report.warnings.len(),
+    };
+    write_report(&dir.join("report.json"), &summary, report)?;
+    Ok(summary)
+}
+
+/// Writes `report.json`: the check report with the tables and previews added.
+fn write_report(
+    path: &Path,
+    summary: &CompileSummary,
+    report: &CheckReport,
+) -> Result<(), CompileError> {
+    let io =
+        |e: std::io::Error| CompileError::Io(format!("cannot write `{}`: {e}", path.display()));
+    let mut value = serde_json::to_value(report).map_err(|e| CompileError::Io(e.to_string()))?;
+    if let Some(obj) = value.as_object_mut() {
+        let tables: serde_json::Map<String, serde_json::Value> = summary
+            .tables
+            .iter()
+            .map(|(name, t)| (name.clone(), serde_json::to_value(t).unwrap_or_default()))
+            .collect();
+        obj.insert(
+            "compile".into(),
+            serde_json::json!({
+                "frame_rate_hz": summary.frame_rate_hz,
+                "frames": summary.frames,
+                "duration_s": summary.duration_s,
+                "tables": tables,
+                "previews": summary.previews,
+            }),
+        );
+    }
+    let mut f = BufWriter::new(File::create(path).map_err(io)?);
+    serde_json::to_writer_pretty(&mut f, &value).map_err(|e| CompileError::Io(e.to_string()))?;
+    writeln!(f).map_err(io)?;
+    f.flush().map_err(io)
+}
+
+/// Streams every frame of one prop into its four files.
+fn write_prop(
+    show: &Show,
+    pl: &PropLights,
+    frames: u32,
+    header_form: TableForm,
+    dir: &Path,
+) -> Result<PropTables, CompileError> {
+    let prop = &show.props[pl.prop];
+    let spec = TableSpec {
+        frame_rate_hz: show.frame_rate_hz,
+        leds: prop.leds,
+        order: prop.wire_order,
+        frame_count: frames,
+    };
+    let names = [
+        format!("{}.csv", prop.name),
+        format!("{}.full.bin", prop.name),
+        format!("{}.compact.bin", prop.name),
+        format!("{}.h", prop.name),
+    ];
+    let open = |name: &str| {
+        let path = dir.join(name);
+        File::create(&path)
+            .map_err(|e| CompileError::Io(format!("cannot create `{}`: {e}", path.display())))
+    };
+    let mut csv = CsvWriter::new(open(&names[0])?, spec)?;
+    let mut full = FullTableWriter::new(open(&names[1])?, spec)?;
+    let mut compact = CompactTableWriter::new(open(&names[2])?, spec)?;
+    let mut header = CHeaderWriter::new(open(&names[3])?, spec, &prop.name, header_form)?;
+    let mut frame = vec![[0u8; 3]; prop.leds as usize];
+    for k in 0..u64::from(frames) {
+        pl.fill_frame(show, k, &mut frame);
+        csv.push_frame(&frame)?;
+        full.push_frame(&frame)?;
+        compact.push_frame(&frame)?;
+        header.push_frame(&frame)?;
+    }
+    let info = |name: &String, s: WriteStats| FileInfo {
+        file: name.clone(),
+        bytes: s.bytes_written,
+        crc32: s.crc32.map(|c| format!("0x{c:08x}")),
+    };
+    let (c, f, p, h) = (
+        csv.finish()?,
+        full.finish()?,
+        compact.finish()?,
+        header.finish()?,
+    );
+    Ok(PropTables {
+        leds: prop.leds,
+        wire_order: prop.wire_order.name(),
+        csv: FileInfo {
+            crc32: None,
+            ..info(&names[0], c)
+        },
+        full: info(&names[1], f),
+        compact: info(&names[2], p),
+        header: FileInfo {
+            crc32: None,
+            ..info(&names[3], h)
+        },
+    })
+}
