@@ -1,0 +1,27 @@
+//! Benchmark: compiling four-minute two-prop shows into every table
+//! (CSV, full, compact, C header) and report.json, previews off.
+
+use criterion::{Criterion, criterion_group, criterion_main};
+use glowscore::compile::{CompileOptions, compile};
+
+fn bench(c: &mut Criterion) {
+    let dir = std::env::temp_dir().join("glowscore-bench-compile");
+    let mut g = c.benchmark_group("compile");
+    g.sample_size(10);
+    for fixture in ["four-minutes", "four-minutes-72"] {
+        let path = format!(
+            "{}/benches/fixtures/{fixture}.toml",
+            env!("CARGO_MANIFEST_DIR")
+        );
+        let show = glowscore::show::load(std::path::Path::new(&path)).expect("fixture parses");
+        let mut opts = CompileOptions::new(dir.join(fixture));
+        opts.previews = false;
+        g.bench_function(fixture, |b| {
+            b.iter(|| compile(&show, &opts).expect("compiles").0.frames)
+        });
+    }
+    g.finish();
+}
+
+criterion_group!(benches, bench);
+criterion_main!(benches);
