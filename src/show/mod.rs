@@ -171,7 +171,7 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
     let cues = cues(ctx, root, &props, &names);
 
     let tempo = TempoMap::new(start_s, beats_per_bar, bpm?, &changes);
-    Some(Show {
+    let show = Show {
         title,
         frame_rate_hz: frame_rate? as u32,
         tempo,
@@ -180,7 +180,48 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
         sections,
         cues,
         source: ctx.src.clone(),
-    })
+    };
+    check_work(ctx, &show);
+    Some(show)
+}
+
+/// The most turns of the fastest relative rotation, over all props and
+/// sections, that the event search is asked to resolve.
+pub const MAX_RELATIVE_TURNS: f64 = 2.0e6;
+
+/// Refuses a show whose motion is too long or too fast to search for
+/// events in reasonable time (a sane show has a few thousand turns).
+fn check_work(ctx: &mut Ctx, show: &Show) {
+    let bpb = f64::from(show.tempo.beats_per_bar());
+    let mut turns = 0.0;
+    for sec in &show.sections {
+        let beats = f64::from(sec.last_bar - sec.first_bar + 1) * bpb;
+        for pl in sec.placements.iter().flatten() {
+            let pat = &show.patterns[pl.pattern];
+            let rates: Vec<f64> = pat
+                .hand
+                .iter()
+                .map(|t| t.turns)
+                .chain([pat.head_turns])
+                .collect();
+            let finest = rates
+                .iter()
+                .flat_map(|a| rates.iter().map(move |b| (a - b).abs().max(a.abs())))
+                .fold(1.0, f64::max);
+            turns += beats / pat.beats * finest;
+        }
+    }
+    if turns > MAX_RELATIVE_TURNS {
+        ctx.diags.push(
+            Diagnostic::error(format!(
+                "the show asks for {turns:.0} turns of spin in all, more than the {MAX_RELATIVE_TURNS:.0} glowscore \
+                 simulates (a long show is a few thousand)"
+            ))
+            .key("section")
+            .at(&ctx.src, 0..0)
+            .help("check the sections' bars and the patterns' `beats` and turns"),
+        );
+    }
 }
 
 /// The prop and pattern names declared in the file.

@@ -1,0 +1,74 @@
+//! The show parser never panics, whatever the input: arbitrary text, and
+//! the demo shows with random bytes changed, inserted or removed. Each
+//! invalid input must come back as diagnostics, and valid ones must run
+//! through motion and events. Raise PROPTEST_CASES for a longer fuzz.
+
+use proptest::prelude::*;
+
+const DEMO: &str = include_str!("../shows/moth-garden.toml");
+const REEL: &str = include_str!("../shows/salt-marsh-reel.toml");
+
+fn run(text: String) {
+    if let Ok(show) = glowscore::show::parse("fuzz.toml", text) {
+        let motions = glowscore::motion::simulate(&show);
+        let _ = glowscore::events::find_events(&show, &motions);
+    }
+}
+
+/// A demo show with `edits` applied: (position, byte, kind) where kind 0
+/// replaces, 1 inserts and 2 deletes.
+fn mutate(base: &str, edits: &[(usize, u8, u8)]) -> String {
+    let mut b = base.as_bytes().to_vec();
+    for &(pos, byte, kind) in edits {
+        if b.is_empty() {
+            break;
+        }
+        let i = pos % b.len();
+        match kind % 3 {
+            0 => b[i] = byte,
+            1 => b.insert(i, byte),
+            _ => {
+                b.remove(i);
+            }
+        }
+    }
+    String::from_utf8_lossy(&b).into_owned()
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 256, ..ProptestConfig::default() })]
+
+    #[test]
+    fn arbitrary_text_never_panics(text in "\\PC{0,400}") {
+        run(text);
+    }
+
+    #[test]
+    fn mutated_demo_shows_never_panic(
+        edits in proptest::collection::vec((any::<usize>(), any::<u8>(), any::<u8>()), 1..8),
+        which: bool,
+    ) {
+        run(mutate(if which { DEMO } else { REEL }, &edits));
+    }
+
+    #[test]
+    fn numbers_swapped_in_never_panic(
+        pos in any::<usize>(),
+        value in prop_oneof![
+            Just("0".to_string()), Just("-1".to_string()), Just("1e308".to_string()),
+            Just("nan".to_string()), Just("inf".to_string()), Just("-0.0".to_string()),
+            Just("99999999999".to_string()), Just("\"x\"".to_string()), Just("[]".to_string()),
+            Just("{}".to_string()), Just("1979-05-27".to_string()),
+        ],
+    ) {
+        // Replace the n-th number of the demo with an edge value.
+        let nums: Vec<(usize, usize)> = DEMO
+            .match_indices(|c: char| c.is_ascii_digit())
+            .map(|(i, _)| i)
+            .filter(|&i| i == 0 || !DEMO.as_bytes()[i - 1].is_ascii_digit() && DEMO.as_bytes()[i - 1] != b'.')
+            .map(|i| (i, DEMO[i..].find(|c: char| !(c.is_ascii_digit() || c == '.')).map_or(DEMO.len(), |e| i + e)))
+            .collect();
+        let (a, b) = nums[pos % nums.len()];
+        run(format!("{}{}{}", &DEMO[..a], value, &DEMO[b..]));
+    }
+}
