@@ -133,3 +133,33 @@ fn tempo_change_moves_every_later_beat_by_the_exact_amount() {
         assert!((a.time_s - (0.25 + 0.6 * k as f64)).abs() < 1e-12);
     }
 }
+
+#[test]
+fn mirrored_placements_read_clock_angles_on_the_mirrored_clock() {
+    // Contract: mirror reverses the sense of the plane's clock (right -> -right),
+    // and angle events of that placement are read on the mirrored clock.
+    let text = |mirror: bool| {
+        format!(
+            "[show]\nframe_rate = 100\nbpm = 60\n\
+             [prop.p]\ntether_m = 0.5\nanchor_m = [0, 1.5, 0]\n\
+             [pattern.x]\nplane = \"wall\"\nbeats = 4\nhand_radius_m = 0.2\nhead_turns = 1\n\
+             [[section]]\nbars = [1, 1]\np = {{ pattern = \"x\", mirror = {mirror} }}\n\
+             [[cue]]\nprop = \"p\"\nbars = [1, 1]\nat = \"angle\"\nangle_deg = 90\ncolours = [\"red\", \"blue\"]\n"
+        )
+    };
+    for (mirror, side) in [(false, 1.0), (true, -1.0)] {
+        let show = common::show(&text(mirror));
+        let angles = count(&show, EventKind::Angle);
+        assert_eq!(angles.len(), 1, "one pass of 3 o'clock per turn");
+        let e = &angles[0];
+        // An extension: hand and head at the same clock angle, 0.7 m out;
+        // 90 deg is reached after a quarter turn, one beat in.
+        assert!((e.time_s - 1.0).abs() < 1e-6, "{}", e.time_s);
+        assert!(
+            (e.position_m.x - side * 0.7).abs() < 1e-9,
+            "mirror {mirror}: x = {}",
+            e.position_m.x
+        );
+        assert!((e.position_m.y - 1.5).abs() < 1e-9);
+    }
+}
