@@ -159,9 +159,17 @@ pub fn scan(show: &Show, lights: &Lights) -> LightScan {
     let rate = f64::from(show.frame_rate_hz);
     let frames = show.frame_count();
     let n = lights.props.len();
-    let new = || FlashAnalyser::new(rate).expect("the show's frame rate is positive");
-    let mut analysers: Vec<FlashAnalyser> = (0..n).map(|_| new()).collect();
-    let mut stage = (n >= 2).then(new);
+    // A validated show has a frame rate of at least 1 Hz; a hand-built one
+    // with 0 Hz has no frames and gets no flash figures.
+    let Ok(fresh) = FlashAnalyser::new(rate) else {
+        return LightScan {
+            props: Vec::new(),
+            stage_flash: None,
+            warnings: Vec::new(),
+        };
+    };
+    let mut analysers: Vec<FlashAnalyser> = vec![fresh.clone(); n];
+    let mut stage = (n >= 2).then_some(fresh);
     let mut peak = vec![(f64::NEG_INFINITY, 0u64); n];
     let mut sum = vec![0.0f64; n];
     let mut over: Vec<Vec<Over>> = vec![Vec::new(); n];
