@@ -11,7 +11,7 @@
 //! - IEC 61966-2-1 (sRGB): the transfer function that turns the cue colours
 //!   into linear LED bytes.
 //! - LED current: 20 mA per channel at full brightness for small addressable
-//!   RGB LEDs (from memory); Ohm's-law-free bookkeeping: a channel at byte b
+//!   RGB LEDs (from memory); a channel at byte b
 //!   draws b / 255 of its full current (common practice for PWM-driven LEDs).
 //! - Uniform circular motion (Halliday, Resnick and Walker, Fundamentals of
 //!   Physics): speed 2 pi r / T, arc travelled v dt.
@@ -513,4 +513,45 @@ fn four_minute_show_light_scan_is_fast() {
         took * 1000.0
     );
     assert!(took < 2.0, "light scan took {took} s");
+}
+
+#[test]
+fn check_with_lights_matches_check_show() {
+    // The compile command's path (lights placed once, reused) gives the same
+    // report as the check command's.
+    use glowscore::check::{CheckSettings, check_with_lights};
+    let show = common::show(&two_strobes("\"black\", \"white\""));
+    let motions = simulate(&show);
+    let events = find_events(&show, &motions);
+    let lights = cues::place(&show, &motions, &events);
+    let reused = check_with_lights(&show, &motions, &lights, &CheckSettings::default()).unwrap();
+    assert_eq!(reused, check_show(&show).unwrap());
+}
+
+#[test]
+fn check_command_json_lists_flash_warnings() {
+    // W3C WCAG 2.x: 5 flashes a second is over the limit; the warning is in
+    // the contract's warning list with kind "flash", and the run still
+    // succeeds (exit 0: warnings allowed).
+    let dir = std::env::temp_dir().join(format!("glowscore-light-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("strobe.toml");
+    let white_black = beat_cue(8, "\"white\", \"black\"");
+    std::fs::write(&path, one_prop(1000, 600.0, 8, "", &white_black)).unwrap();
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_glowscore"))
+        .args(["check", path.to_str().unwrap(), "--json"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(0));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let flashes: Vec<_> = v["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|w| w["kind"] == "flash")
+        .collect();
+    assert_eq!(flashes.len(), 1);
+    assert_eq!(flashes[0]["prop"], "p");
+    assert!(flashes[0]["time_s"].is_f64() && flashes[0]["bar"].is_i64());
+    assert_eq!(v["props"]["p"]["flash"]["max_general"], 5);
 }
