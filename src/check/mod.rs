@@ -6,7 +6,10 @@
 //! acceleration, spin rates against common practice ([`spin`]), reach and
 //! the stage space the show sweeps ([`reach`]); for every pair of props the
 //! closest approach of heads and tethers ([`collision`]); at every section
-//! boundary, heads that jump ([`jumps`]). [`report`] holds the result.
+//! boundary, heads that jump ([`jumps`]). From the frame tables: flash
+//! counts after W3C WCAG 2.x per prop and for the whole stage, LED current
+//! and battery time ([`light`]), and how far each cue's colour changes land
+//! from their events ([`landing`]). [`report`] holds the result.
 //!
 //! Accuracy: smooth quantities are sampled at 64 samples per turn of the
 //! fastest relative rotation and their extremes refined by Brent's method on
@@ -16,6 +19,8 @@
 pub mod collision;
 pub mod jumps;
 pub mod kin;
+pub mod landing;
+pub mod light;
 pub mod prop;
 pub mod reach;
 pub mod report;
@@ -25,6 +30,8 @@ pub mod tension;
 
 pub use report::{CheckReport, PairFigures, PropFigures, Warning, WarningKind, When};
 
+use crate::cues::{self, Lights};
+use crate::events;
 use crate::model::Show;
 use crate::motion::{PropMotion, simulate};
 
@@ -39,6 +46,9 @@ pub struct CheckSettings {
     pub clear_margin_m: f64,
     /// Samples per turn of the fastest relative rotation in a search.
     pub samples_per_turn: f64,
+    /// A cue whose colour changes land further than this from their events
+    /// warns, millimetres of head travel.
+    pub tolerance_mm: f64,
 }
 
 impl Default for CheckSettings {
@@ -48,6 +58,7 @@ impl Default for CheckSettings {
             jump_limit_m: 0.01,
             clear_margin_m: reach::CLEAR_MARGIN_M,
             samples_per_turn: 64.0,
+            tolerance_mm: landing::DEFAULT_TOLERANCE_MM,
         }
     }
 }
@@ -104,16 +115,35 @@ pub fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSetti
     total
 }
 
-/// Checks `show` with the default settings.
+/// Checks `show` with the default settings: physics, light and landing.
 pub fn check_show(show: &Show) -> Result<CheckReport, CheckError> {
     check(show, &simulate(show), &CheckSettings::default())
 }
 
-/// Checks `show`, whose motion is `motions` (from [`simulate`]); refuses a
-/// show that would need more than [`MAX_SAMPLES`] samples.
+/// Checks `show`, whose motion is `motions` (from [`simulate`]): finds the
+/// events and places the cues itself, then runs [`check_with_lights`].
 pub fn check(
     show: &Show,
     motions: &[PropMotion],
+    settings: &CheckSettings,
+) -> Result<CheckReport, CheckError> {
+    // Refuse too much work before finding events and placing cues.
+    let samples = samples_needed(show, motions, settings);
+    if samples.is_nan() || samples > MAX_SAMPLES {
+        return Err(CheckError::TooMuchWork { samples });
+    }
+    let found = events::find_events(show, motions);
+    let lights = cues::place(show, motions, &found);
+    check_with_lights(show, motions, &lights, settings)
+}
+
+/// Checks `show`, whose motion is `motions` and whose cues are placed as
+/// `lights` (from [`cues::place`], for callers that have them already);
+/// refuses a show that would need more than [`MAX_SAMPLES`] samples.
+pub fn check_with_lights(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
     settings: &CheckSettings,
 ) -> Result<CheckReport, CheckError> {
     let samples = samples_needed(show, motions, settings);
@@ -146,6 +176,17 @@ pub fn check(
     for m in motions {
         warnings.extend(jumps::jumps(show, m, settings.jump_limit_m));
     }
+    let light_scan = light::scan(show, lights);
+    for (pl, figures) in lights.props.iter().zip(&light_scan.props) {
+        let name = &show.props[pl.prop].name;
+        if let Some(p) = props.iter_mut().find(|p| &p.name == name) {
+            figures.fill(p);
+        }
+    }
+    warnings.extend(light_scan.warnings);
+    let (cue_landings, landing_summary, landing_warnings) =
+        landing::scan(show, &lights.landings, settings.tolerance_mm);
+    warnings.extend(landing_warnings);
     let start = show.tempo.start_s();
     let mut report = CheckReport {
         valid: true,
@@ -160,6 +201,9 @@ pub fn check(
             jump_m: settings.jump_limit_m,
             gravity_m_s2: tension::G0,
         }),
+        stage_flash: light_scan.stage_flash,
+        cues: cue_landings,
+        landing: Some(landing_summary),
         warnings,
         errors: Vec::new(),
         cautions: report::CAUTIONS.to_vec(),

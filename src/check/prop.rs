@@ -215,6 +215,11 @@ pub fn scan_prop(
         reach_from_centre_m: max(Q_CENTRE).sqrt(),
         reach_from_centre_at: when(total[Q_CENTRE].max),
         peak_current_a: None,
+        peak_current_at: None,
+        mean_current_a: None,
+        battery_hours: None,
+        brightness_scale: None,
+        flash: None,
     };
     PropScan {
         figures,

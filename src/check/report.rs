@@ -11,6 +11,8 @@ use std::io::{self, Write};
 use serde::Serialize;
 use serde::ser::{SerializeMap, Serializer};
 
+use super::landing::{CueLanding, LandingSummary};
+use super::light::FlashFigures;
 use crate::commands::round_to;
 use crate::model::Show;
 
@@ -26,6 +28,12 @@ pub enum WarningKind {
     Collision,
     /// A section boundary moves a head discontinuously.
     Jump,
+    /// More than three general or red flashes in a one-second window (W3C WCAG 2.x).
+    Flash,
+    /// A prop's LEDs draw more current than its `max_current_a`.
+    Current,
+    /// A cue's colour changes land further from their events than the tolerance.
+    Landing,
 }
 
 impl WarningKind {
@@ -36,11 +44,14 @@ impl WarningKind {
             WarningKind::SpinRate => "spin_rate",
             WarningKind::Collision => "collision",
             WarningKind::Jump => "jump",
+            WarningKind::Flash => "flash",
+            WarningKind::Current => "current",
+            WarningKind::Landing => "landing",
         }
     }
 }
 
-fn r9<S: Serializer>(x: &f64, s: S) -> Result<S::Ok, S::Error> {
+pub(crate) fn r9<S: Serializer>(x: &f64, s: S) -> Result<S::Ok, S::Error> {
     s.serialize_f64(round_to(*x, 9))
 }
 
@@ -48,7 +59,7 @@ fn r9_pair<S: Serializer>(x: &[f64; 2], s: S) -> Result<S::Ok, S::Error> {
     [round_to(x[0], 9), round_to(x[1], 9)].serialize(s)
 }
 
-fn r9_opt<S: Serializer>(x: &Option<f64>, s: S) -> Result<S::Ok, S::Error> {
+pub(crate) fn r9_opt<S: Serializer>(x: &Option<f64>, s: S) -> Result<S::Ok, S::Error> {
     match x {
         Some(x) => s.serialize_f64(round_to(*x, 9)),
         None => s.serialize_none(),
@@ -176,6 +187,20 @@ pub struct PropFigures {
     /// Peak LED current, amperes (filled by the light checks; null until then).
     #[serde(serialize_with = "r9_opt")]
     pub peak_current_a: Option<f64>,
+    /// Start of the first frame with the peak current.
+    pub peak_current_at: Option<When>,
+    /// Mean LED current over every frame, amperes.
+    #[serde(serialize_with = "r9_opt")]
+    pub mean_current_a: Option<f64>,
+    /// Battery time at the mean current, hours (null without `battery_mah`).
+    #[serde(serialize_with = "r9_opt")]
+    pub battery_hours: Option<f64>,
+    /// Scale on brightness that keeps the peak within `max_current_a`, 0..=1
+    /// (with `brightness_limit = true`; null otherwise).
+    #[serde(serialize_with = "r9_opt", skip_serializing_if = "Option::is_none")]
+    pub brightness_scale: Option<f64>,
+    /// Flash counts of the prop's LEDs (W3C WCAG 2.x, as a guide for props).
+    pub flash: Option<FlashFigures>,
 }
 
 /// The closest approach of two props while both play a pattern.
@@ -316,6 +341,13 @@ pub struct CheckReport {
     pub stage: Option<Stage>,
     /// The limits used.
     pub limits: Option<Limits>,
+    /// Flash counts of the whole stage: the mean of every prop's linear
+    /// light (null with fewer than two props).
+    pub stage_flash: Option<FlashFigures>,
+    /// Landing figures per cue, in file order.
+    pub cues: Vec<CueLanding>,
+    /// Landing figures of the whole show.
+    pub landing: Option<LandingSummary>,
     /// Every warning, sorted by time, then kind, then prop.
     pub warnings: Vec<Warning>,
     /// Why the show is invalid (empty when valid).
@@ -334,9 +366,10 @@ fn props_as_map<S: Serializer>(props: &[PropFigures], s: S) -> Result<S::Ok, S::
 }
 
 /// The cautions that end every report.
-pub const CAUTIONS: [&str; 4] = [
+pub const CAUTIONS: [&str; 5] = [
     "Keep clear space around spinning props (at least the rectangle above) and check the venue's rules on distances to the audience.",
     "Warn audiences about flashing light beforehand, and avoid flashing between 3 and 60 times per second near the audience.",
+    "The flash counts apply the W3C WCAG 2.x general and red flash thresholds, which were written for screens; for props they are a conservative guide, not a certification.",
     "Charge, carry and store lithium batteries as their maker says.",
     "These figures come from a model: local codes, the venue and the LED and battery data sheets take precedence.",
 ];
@@ -365,6 +398,9 @@ impl CheckReport {
             pairs: Vec::new(),
             stage: None,
             limits: None,
+            stage_flash: None,
+            cues: Vec::new(),
+            landing: None,
             warnings: Vec::new(),
             errors,
             cautions: CAUTIONS.to_vec(),
@@ -415,6 +451,18 @@ impl CheckReport {
         }
         if let Some(s) = &self.stage {
             write_stage(out, s)?;
+        }
+        if let Some(f) = &self.stage_flash {
+            write_flash(out, "  flashes        whole stage ", f)?;
+        }
+        if self.props.iter().any(|p| p.flash.is_some()) {
+            writeln!(
+                out,
+                "  (flash limits: W3C WCAG 2.x, written for screens, applied here as a conservative guide)"
+            )?;
+        }
+        if let Some(l) = &self.landing {
+            write_landing(out, &self.cues, l)?;
         }
         writeln!(out, "\nWarnings: {}", self.warnings.len())?;
         for w in &self.warnings {
@@ -490,7 +538,69 @@ fn write_prop(out: &mut dyn Write, p: &PropFigures) -> io::Result<()> {
         at(&p.reach_from_centre_at)
     )?;
     if let Some(a) = p.peak_current_a {
-        writeln!(out, "  LED current    peak {a:.3} A")?;
+        writeln!(
+            out,
+            "  LED current    peak {a:.3} A {}",
+            at(&p.peak_current_at)
+        )?;
+    }
+    if let Some(a) = p.mean_current_a {
+        writeln!(out, "                 mean {a:.3} A")?;
+    }
+    if let Some(h) = p.battery_hours {
+        writeln!(out, "  battery        {h:.2} h at the mean current")?;
+    }
+    if let Some(k) = p.brightness_scale {
+        writeln!(
+            out,
+            "  brightness     scale by {k:.3} to keep the peak within max_current_a"
+        )?;
+    }
+    if let Some(f) = &p.flash {
+        write_flash(out, "  flashes        ", f)?;
+    }
+    Ok(())
+}
+
+fn write_flash(out: &mut dyn Write, lead: &str, f: &FlashFigures) -> io::Result<()> {
+    writeln!(
+        out,
+        "{lead}up to {} general ({:.3} s) and {} red ({:.3} s) in one second, limit {}: {}",
+        f.max_general,
+        f.max_general_at_s,
+        f.max_red,
+        f.max_red_at_s,
+        f.limit,
+        if f.passes { "within" } else { "over" }
+    )
+}
+
+fn write_landing(out: &mut dyn Write, cues: &[CueLanding], l: &LandingSummary) -> io::Result<()> {
+    writeln!(
+        out,
+        "\nLanding (tolerance {} mm; needed rate = half a frame at the fastest event)",
+        l.tolerance_mm
+    )?;
+    for c in cues {
+        match (c.worst_ms, c.worst_mm, c.worst_deg) {
+            (Some(ms), Some(mm), Some(deg)) => writeln!(
+                out,
+                "  cue {} {} {} bars {}-{}: {} changes, worst {ms:.2} ms {mm:.1} mm {deg:.1} deg, needs {} Hz",
+                c.cue,
+                c.prop,
+                c.at,
+                c.bars[0],
+                c.bars[1],
+                c.changes,
+                c.needed_frame_rate_hz
+                    .map_or_else(|| "?".to_string(), |f| f.to_string())
+            )?,
+            _ => writeln!(
+                out,
+                "  cue {} {} {} bars {}-{}: no event-driven changes",
+                c.cue, c.prop, c.at, c.bars[0], c.bars[1]
+            )?,
+        }
     }
     Ok(())
 }

@@ -74,6 +74,17 @@ pub struct Prop {
     pub glow_sigma_mm: f64,
     /// PWM frequency of the LED driver, hertz; 0 for a constant-current driver.
     pub pwm_hz: f64,
+    // LED current and battery (`check`):
+    /// Current of one LED channel at full brightness (byte 255), amperes.
+    pub channel_current_a: f64,
+    /// Current the prop draws with every LED dark (controller, radio), amperes.
+    pub idle_current_a: f64,
+    /// Battery capacity, milliampere-hours, if given.
+    pub battery_mah: Option<f64>,
+    /// Most current the prop's supply should deliver, amperes, if given.
+    pub max_current_a: Option<f64>,
+    /// Report the brightness scale that keeps the peak current under `max_current_a`.
+    pub brightness_limit: bool,
 }
 
 /// A plane of motion: the two unit vectors of its clock.

@@ -35,6 +35,14 @@ pub const MAX_FILE_BYTES: u64 = 16 << 20;
 /// (a diffused ball of about 50 mm photographed a few metres away).
 pub const DEFAULT_GLOW_SIGMA_MM: f64 = 12.0;
 
+/// Current of one LED channel at full brightness when a prop leaves out
+/// `channel_current_a`, amperes: 20 mA, a common figure for small addressable
+/// RGB LEDs (from memory; the LED's data sheet takes precedence).
+pub const DEFAULT_CHANNEL_CURRENT_A: f64 = 0.020;
+/// Current of a prop with every LED dark when it leaves out `idle_current_a`,
+/// amperes: 50 mA for a small controller board (an assumption, not a measurement).
+pub const DEFAULT_IDLE_CURRENT_A: f64 = 0.05;
+
 const TOP_KEYS: &[&str] = &["show", "tempo", "prop", "pattern", "section", "cue"];
 const SHOW_KEYS: &[&str] = &["title", "frame_rate", "bpm", "beats_per_bar", "start_s"];
 const TEMPO_KEYS: &[&str] = &["bar", "bpm"];
@@ -50,6 +58,12 @@ const PROP_KEYS: &[&str] = &[
     // Long-exposure previews:
     "glow_sigma_mm",
     "pwm_hz",
+    // LED current and battery (check):
+    "channel_current_a",
+    "idle_current_a",
+    "battery_mah",
+    "max_current_a",
+    "brightness_limit",
 ];
 const PATTERN_KEYS: &[&str] = &[
     "plane",
@@ -365,6 +379,16 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
         let pwm_hz = ctx
             .number_in(t, "pwm_hz", false, 0.0, false, 1_000_000.0)
             .unwrap_or(0.0);
+        // LED current and battery (check).
+        let channel_current_a = ctx
+            .number_in(t, "channel_current_a", false, 0.0, false, 10.0)
+            .unwrap_or(DEFAULT_CHANNEL_CURRENT_A);
+        let idle_current_a = ctx
+            .number_in(t, "idle_current_a", false, 0.0, false, 100.0)
+            .unwrap_or(DEFAULT_IDLE_CURRENT_A);
+        let battery_mah = ctx.number_in(t, "battery_mah", false, 0.0, true, 1e7);
+        let max_current_a = ctx.number_in(t, "max_current_a", false, 0.0, true, 1000.0);
+        let brightness_limit = ctx.boolean(t, "brightness_limit").unwrap_or(false);
         if let (Some(kind), Some(tether_m), Some(anchor_m), Some(wire_order)) =
             (kind, tether, anchor, wire_order)
         {
@@ -380,6 +404,11 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
                 wire_order,
                 glow_sigma_mm,
                 pwm_hz,
+                channel_current_a,
+                idle_current_a,
+                battery_mah,
+                max_current_a,
+                brightness_limit,
             });
         }
     }

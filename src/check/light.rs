@@ -1,0 +1,307 @@
+//! The light checks of `glowscore check`: flash safety, LED current and
+//! battery time, from the frame tables the props will show.
+//!
+//! # Flash safety
+//!
+//! Each prop's LEDs all show one colour per frame ([`PropLights::bytes`]);
+//! that colour, read as linear light ([`flash::led_light`]), is one light
+//! source for [`flash::FlashAnalyser`], which counts general and red flashes
+//! in every one-second window after the W3C WCAG 2.x definitions (see
+//! [`crate::flash`] for what comes from WCAG and what is our reading). The
+//! whole stage is a second kind of source: the mean, channel by channel, of
+//! every prop's linear light on that frame. That is the light an eye gets
+//! from the whole stage when every prop fills the same share of the view;
+//! one prop flashing among two shows as a flash of half the size. The stage
+//! is analysed only when there are at least two props (with one it is the
+//! prop itself), and its warnings name the prop `(stage)`, a name no prop can
+//! have. A `flash` warning marks every stretch where a one-second window holds
+//! more than three general or three red flashes. The thresholds were written
+//! for screens; here they are applied to props as a conservative guide, not
+//! as a certification.
+//!
+//! # LED current and battery
+//!
+//! A frame's current is `leds x channel_current_a x (r + g + b) / 255 +
+//! idle_current_a`, with r, g, b the table bytes: each channel draws its
+//! full-brightness current in proportion to its byte (the LEDs are driven by
+//! PWM or a linear current set from the byte). Peak and mean are over every
+//! frame of the show; battery time is `battery_mah / 1000 / mean current`,
+//! hours, ignoring the battery's voltage sag and the driver's efficiency.
+//! Frames above `max_current_a` give a `current` warning; stretches less than
+//! a second apart are merged into one warning. With `brightness_limit = true`
+//! the report gives the scale on the prop's brightness that would keep the
+//! peak within `max_current_a`, allowing for rounding to bytes.
+//!
+//! Work: one pass over the frames, no allocation per frame.
+
+use serde::Serialize;
+
+use super::report::{PropFigures, Warning, WarningKind, When, r9};
+use crate::cues::Lights;
+use crate::flash::{self, FlashAnalyser, FlashReport, MAX_FLASHES};
+use crate::model::Show;
+
+/// The prop name that stage-wide flash warnings carry.
+pub const STAGE: &str = "(stage)";
+
+/// Current stretches closer than this are one warning, seconds.
+pub const CURRENT_MERGE_S: f64 = 1.0;
+
+/// The most flashes in any one-second window of one light source.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct FlashFigures {
+    /// Most general flashes in a one-second window (WCAG 2.x).
+    pub max_general: usize,
+    /// Start of the first such window, seconds from frame 0.
+    #[serde(serialize_with = "r9")]
+    pub max_general_at_s: f64,
+    /// Most red flashes in a one-second window (WCAG 2.x).
+    pub max_red: usize,
+    /// Start of the first such window, seconds from frame 0.
+    #[serde(serialize_with = "r9")]
+    pub max_red_at_s: f64,
+    /// Most flashes a one-second window may hold, general and red each (3).
+    pub limit: usize,
+    /// True when no window holds more than `limit` of either kind.
+    pub passes: bool,
+}
+
+impl FlashFigures {
+    fn of(r: &FlashReport) -> FlashFigures {
+        FlashFigures {
+            max_general: r.max_general.flashes,
+            max_general_at_s: r.max_general.start_s,
+            max_red: r.max_red.flashes,
+            max_red_at_s: r.max_red.start_s,
+            limit: MAX_FLASHES,
+            passes: r.passes(),
+        }
+    }
+}
+
+/// The light figures of one prop over the whole show.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PropLightFigures {
+    /// Flash counts of the prop's LEDs.
+    pub flash: FlashFigures,
+    /// Highest current of any frame, amperes.
+    pub peak_current_a: f64,
+    /// Start of the first frame with that current.
+    pub peak_current_at: Option<When>,
+    /// Mean current over every frame, amperes.
+    pub mean_current_a: f64,
+    /// Battery time at the mean current, hours (with `battery_mah`).
+    pub battery_hours: Option<f64>,
+    /// Scale on brightness that keeps the peak within `max_current_a`, 0..=1
+    /// (with `brightness_limit = true` and `max_current_a`).
+    pub brightness_scale: Option<f64>,
+}
+
+impl PropLightFigures {
+    /// Copies the figures into the prop's report entry.
+    pub fn fill(&self, p: &mut PropFigures) {
+        p.peak_current_a = Some(self.peak_current_a);
+        p.peak_current_at = self.peak_current_at;
+        p.mean_current_a = Some(self.mean_current_a);
+        p.battery_hours = self.battery_hours;
+        p.brightness_scale = self.brightness_scale;
+        p.flash = Some(self.flash);
+    }
+}
+
+/// Everything the light checks found.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LightScan {
+    /// Per prop, in prop order.
+    pub props: Vec<PropLightFigures>,
+    /// The whole stage's flash counts (two props or more).
+    pub stage_flash: Option<FlashFigures>,
+    /// Flash and current warnings, unsorted.
+    pub warnings: Vec<Warning>,
+}
+
+/// Current of one frame of a prop, amperes: `leds x channel x (r + g + b) / 255 + idle`.
+pub fn frame_current_a(bytes: [u8; 3], leds: u32, channel_a: f64, idle_a: f64) -> f64 {
+    let sum = u32::from(bytes[0]) + u32::from(bytes[1]) + u32::from(bytes[2]);
+    f64::from(leds) * channel_a * f64::from(sum) / 255.0 + idle_a
+}
+
+/// The brightness scale (0..=1) that keeps a prop's peak current within
+/// `max_a`, amperes, given its peak current `peak_a` with the current tables.
+///
+/// The LED part `peak_a - idle` is scaled; half a byte per channel of every
+/// LED is kept in hand for rounding the scaled values to bytes. 1 when the
+/// peak is already within the limit; 0 when even dark LEDs exceed it.
+pub fn brightness_scale(peak_a: f64, max_a: f64, leds: u32, channel_a: f64, idle_a: f64) -> f64 {
+    if peak_a <= max_a {
+        return 1.0;
+    }
+    let led_peak = peak_a - idle_a;
+    let rounding = f64::from(leds) * 3.0 * channel_a * 0.5 / 255.0;
+    let room = max_a - idle_a - rounding;
+    if led_peak <= 0.0 || room <= 0.0 {
+        return 0.0;
+    }
+    (room / led_peak).clamp(0.0, 1.0)
+}
+
+/// A stretch of frames over the current limit: first frame, one past the
+/// last, highest current.
+#[derive(Clone, Copy, Debug)]
+struct Over {
+    first: u64,
+    end: u64,
+    peak_a: f64,
+}
+
+/// Runs the flash and current checks over every frame of `lights`.
+pub fn scan(show: &Show, lights: &Lights) -> LightScan {
+    let rate = f64::from(show.frame_rate_hz);
+    let frames = show.frame_count();
+    let n = lights.props.len();
+    // A validated show has a frame rate of at least 1 Hz; a hand-built one
+    // with 0 Hz has no frames and gets no flash figures.
+    let Ok(fresh) = FlashAnalyser::new(rate) else {
+        return LightScan {
+            props: Vec::new(),
+            stage_flash: None,
+            warnings: Vec::new(),
+        };
+    };
+    let mut analysers: Vec<FlashAnalyser> = vec![fresh.clone(); n];
+    let mut stage = (n >= 2).then_some(fresh);
+    let mut peak = vec![(f64::NEG_INFINITY, 0u64); n];
+    let mut sum = vec![0.0f64; n];
+    let mut over: Vec<Vec<Over>> = vec![Vec::new(); n];
+    let merge_frames = (CURRENT_MERGE_S * rate).ceil() as u64;
+    for k in 0..frames {
+        let mut mean = [0.0f64; 3];
+        for (i, pl) in lights.props.iter().enumerate() {
+            let prop = &show.props[pl.prop];
+            let bytes = pl.bytes(show, k);
+            let light = flash::led_light(bytes);
+            analysers[i].push(light);
+            mean[0] += light.red;
+            mean[1] += light.green;
+            mean[2] += light.blue;
+            let a = frame_current_a(bytes, pl.leds, prop.channel_current_a, prop.idle_current_a);
+            sum[i] += a;
+            if a > peak[i].0 {
+                peak[i] = (a, k);
+            }
+            if prop.max_current_a.is_some_and(|max| a > max) {
+                match over[i].last_mut() {
+                    Some(o) if k <= o.end + merge_frames => {
+                        o.end = k + 1;
+                        o.peak_a = o.peak_a.max(a);
+                    }
+                    _ => over[i].push(Over {
+                        first: k,
+                        end: k + 1,
+                        peak_a: a,
+                    }),
+                }
+            }
+        }
+        if let Some(s) = stage.as_mut() {
+            let d = n as f64;
+            s.push(palette::LinSrgb::new(mean[0] / d, mean[1] / d, mean[2] / d));
+        }
+    }
+
+    let when = |t: f64| When::at_beat(show, show.tempo.beat_at_time(t));
+    let mut warnings = Vec::new();
+    let mut props = Vec::with_capacity(n);
+    for (i, (pl, a)) in lights.props.iter().zip(analysers).enumerate() {
+        let prop = &show.props[pl.prop];
+        let report = a.finish();
+        flash_warnings(&report, &prop.name, &when, &mut warnings);
+        let idle = prop.idle_current_a;
+        let (peak_a, peak_k) = if frames == 0 { (idle, 0) } else { peak[i] };
+        let mean_a = if frames == 0 {
+            idle
+        } else {
+            sum[i] / frames as f64
+        };
+        if let Some(max) = prop.max_current_a {
+            for o in &over[i] {
+                let start = o.first as f64 / rate;
+                warnings.push(Warning {
+                    kind: WarningKind::Current,
+                    prop: prop.name.clone(),
+                    other_prop: None,
+                    at: when(start),
+                    duration_s: Some((o.end - o.first) as f64 / rate),
+                    value: Some(o.peak_a),
+                    limit: Some(max),
+                    unit: Some("A"),
+                    message: format!(
+                        "{} draws up to {:.3} A from its LEDs, more than its max_current_a of {:.3} A",
+                        prop.name, o.peak_a, max
+                    ),
+                });
+            }
+        }
+        props.push(PropLightFigures {
+            flash: FlashFigures::of(&report),
+            peak_current_a: peak_a,
+            peak_current_at: (frames > 0).then(|| when(peak_k as f64 / rate)),
+            mean_current_a: mean_a,
+            battery_hours: prop
+                .battery_mah
+                .filter(|_| mean_a > 0.0)
+                .map(|mah| mah / 1000.0 / mean_a),
+            brightness_scale: match (prop.brightness_limit, prop.max_current_a) {
+                (true, Some(max)) => Some(brightness_scale(
+                    peak_a,
+                    max,
+                    pl.leds,
+                    prop.channel_current_a,
+                    idle,
+                )),
+                _ => None,
+            },
+        });
+    }
+    let stage_flash = stage.map(|s| {
+        let report = s.finish();
+        flash_warnings(&report, STAGE, &when, &mut warnings);
+        FlashFigures::of(&report)
+    });
+    LightScan {
+        props,
+        stage_flash,
+        warnings,
+    }
+}
+
+/// One `flash` warning per over-limit stretch of `report`, for source `name`.
+fn flash_warnings(
+    report: &FlashReport,
+    name: &str,
+    when: &dyn Fn(f64) -> When,
+    out: &mut Vec<Warning>,
+) {
+    let source = if name == STAGE {
+        "the whole stage".to_string()
+    } else {
+        name.to_string()
+    };
+    for w in &report.windows {
+        out.push(Warning {
+            kind: WarningKind::Flash,
+            prop: name.to_string(),
+            other_prop: None,
+            at: when(w.start_s),
+            duration_s: Some(w.end_s - w.start_s),
+            value: Some(w.general.max(w.red) as f64),
+            limit: Some(MAX_FLASHES as f64),
+            unit: Some("flashes/s"),
+            message: format!(
+                "{source} flashes {} times (general) and {} times (red) in one second, more than {MAX_FLASHES} \
+                 (W3C WCAG 2.x thresholds, written for screens, applied here as a conservative guide)",
+                w.general, w.red
+            ),
+        });
+    }
+}
