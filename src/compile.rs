@@ -107,6 +107,8 @@ pub struct CompileSummary {
     pub worst_landing: Option<Landing>,
     /// Warnings in the check report.
     pub warnings: usize,
+    /// Props dimmed by `brightness_limit`, with the scale applied.
+    pub dimmed: Vec<(String, f64)>,
 }
 
 /// Why a compile failed.
@@ -159,12 +161,35 @@ pub fn compile(
     let frames = check_limits(show)?;
     let motions = simulate(show);
     let events = find_events(show, &motions);
-    let lights = cues::place(show, &motions, &events);
+    let mut lights = cues::place(show, &motions, &events);
     let settings = CheckSettings {
+        tolerance_mm: opts.tolerance_mm,
         ..CheckSettings::default()
     };
-    let report = crate::check::check(show, &motions, &settings)
-        .map_err(|e| CompileError::Check(e.to_string()))?;
+    let check = |lights: &Lights| {
+        crate::check::check_with_lights(show, &motions, lights, &settings)
+            .map_err(|e| CompileError::Check(e.to_string()))
+    };
+    let mut report = check(&lights)?;
+    // Props with `brightness_limit = true` are dimmed to stay within their
+    // `max_current_a`; the report then describes the tables as written.
+    let mut dimmed = Vec::new();
+    for pl in &mut lights.props {
+        let name = &show.props[pl.prop].name;
+        let scale = report
+            .props
+            .iter()
+            .find(|p| &p.name == name)
+            .and_then(|p| p.brightness_scale)
+            .unwrap_or(1.0);
+        if scale < 1.0 {
+            pl.brightness *= scale;
+            dimmed.push((name.clone(), scale));
+        }
+    }
+    if !dimmed.is_empty() {
+        report = check(&lights)?;
+    }
 
     let io = |what: &Path, e: std::io::Error| {
         CompileError::Io(format!("cannot write `{}`: {e}", what.display()))
@@ -175,7 +200,9 @@ pub fn compile(
         .join(format!(".glowscore-staging-{}", std::process::id()));
     let _ = fs::remove_dir_all(&staging);
     fs::create_dir(&staging).map_err(|e| io(&staging, e))?;
-    let result = write_all(show, &motions, &lights, &report, opts, frames, &staging);
+    let result = write_all(
+        show, &motions, &lights, &report, opts, frames, &staging, &dimmed,
+    );
     let outcome = result.and_then(|summary| {
         let mut names: Vec<String> = summary
             .tables
@@ -202,6 +229,7 @@ fn write_all(
     opts: &CompileOptions,
     frames: u32,
     dir: &Path,
+    dimmed: &[(String, f64)],
 ) -> Result<CompileSummary, CompileError> {
     let tables: Vec<(String, PropTables)> = lights
         .props
@@ -233,6 +261,7 @@ fn write_all(
         previews,
         worst_landing,
         warnings: report.warnings.len(),
+        dimmed: dimmed.to_vec(),
     };
     write_report(&dir.join("report.json"), &summary, report)?;
     Ok(summary)
@@ -261,6 +290,7 @@ fn write_report(
                 "duration_s": summary.duration_s,
                 "tables": tables,
                 "previews": summary.previews,
+                "brightness_scale_applied": summary.dimmed.iter().map(|(n, k)| (n.clone(), serde_json::json!(k))).collect::<serde_json::Map<_, _>>(),
             }),
         );
     }

@@ -333,3 +333,37 @@ fn report_json_has_the_check_fields_and_the_table_sizes() {
         "reported size is the file's size"
     );
 }
+
+#[test]
+fn brightness_limit_dims_the_tables_under_the_current_limit() {
+    // 10 white LEDs at 20 mA per channel draw 10 x 3 x 0.02 = 0.6 A plus the
+    // idle 0.05 A; a 0.4 A limit needs the tables dimmed.
+    let dir = tmp("dim");
+    let text = STROBE
+        .replace(
+            "anchor_m = [0, 1.5, 0]",
+            "anchor_m = [0, 1.5, 0]\nleds = 10\nmax_current_a = 0.4\nbrightness_limit = true",
+        )
+        .replace("colours = [\"red\", \"#0000ff\"]", "colours = [\"white\"]");
+    let show = write_show(&dir, &text);
+    let run = compile(&show, &dir.join("out"));
+    assert!(
+        run.status.success(),
+        "{}",
+        String::from_utf8_lossy(&run.stderr)
+    );
+    let frames = csv_frames(&dir.join("out/a.csv"));
+    let peak = frames
+        .iter()
+        .map(|f| f.iter().map(|&b| f64::from(b)).sum::<f64>() / 255.0 * 0.020 + 0.05)
+        .fold(0.0, f64::max);
+    assert!(peak <= 0.4, "peak {peak} A after dimming");
+    assert!(peak > 0.35, "dimmed no more than needed: {peak} A");
+    let v: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(dir.join("out/report.json")).unwrap()).unwrap();
+    let k = v["compile"]["brightness_scale_applied"]["a"]
+        .as_f64()
+        .unwrap();
+    assert!(k < 1.0 && k > 0.5, "{k}");
+    assert!(v["props"]["a"]["peak_current_a"].as_f64().unwrap() <= 0.4);
+}
