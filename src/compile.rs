@@ -200,9 +200,7 @@ pub fn compile(
         .join(format!(".glowscore-staging-{}", std::process::id()));
     let _ = fs::remove_dir_all(&staging);
     fs::create_dir(&staging).map_err(|e| io(&staging, e))?;
-    let result = write_all(
-        show, &motions, &lights, &report, opts, frames, &staging, &dimmed,
-    );
+    let result = write_all(show, &motions, &lights, &report, opts, &staging, &dimmed);
     let outcome = result.and_then(|summary| {
         let mut names: Vec<String> = summary
             .tables
@@ -227,10 +225,11 @@ fn write_all(
     lights: &Lights,
     report: &CheckReport,
     opts: &CompileOptions,
-    frames: u32,
     dir: &Path,
     dimmed: &[(String, f64)],
 ) -> Result<CompileSummary, CompileError> {
+    // Within u32: `check_limits` has passed.
+    let frames = show.frame_count() as u32;
     let tables: Vec<(String, PropTables)> = lights
         .props
         .par_iter()
