@@ -158,7 +158,7 @@ pub fn compile(
     show: &Show,
     opts: &CompileOptions,
 ) -> Result<(CompileSummary, CheckReport), CompileError> {
-    let frames = check_limits(show)?;
+    check_limits(show)?;
     let motions = simulate(show);
     let events = find_events(show, &motions);
     let mut lights = cues::place(show, &motions, &events);
