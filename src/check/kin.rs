@@ -6,7 +6,6 @@ use nalgebra::Vector3;
 
 use crate::model::Show;
 use crate::motion::{Curve, PropMotion, Span};
-use crate::num;
 
 /// Position (m) and its first three time derivatives (m/s, m/s^2, m/s^3)
 /// of a prop's hand and head, stage coordinates.
@@ -21,22 +20,7 @@ pub struct Kin {
 /// Position and first three derivatives against phase u of a sum of rotating
 /// terms, in the plane's own coordinates (metres per revolution^n).
 pub fn jet3(curve: &Curve, u: f64) -> [[f64; 2]; 4] {
-    let mut j = [[0.0; 2]; 4];
-    for r in curve.rotors() {
-        let w = std::f64::consts::TAU * r.turns;
-        let (s, c) = num::sin_cos(r.start_rad + w * u);
-        let a = r.radius_m;
-        let (a1, a2, a3) = (a * w, a * w * w, a * w * w * w);
-        j[0][0] += a * c;
-        j[0][1] += a * s;
-        j[1][0] -= a1 * s;
-        j[1][1] += a1 * c;
-        j[2][0] -= a2 * c;
-        j[2][1] -= a2 * s;
-        j[3][0] += a3 * s;
-        j[3][1] -= a3 * c;
-    }
-    j
+    curve.derivatives(u)
 }
 
 fn to_stage(span: &Span, j: [[f64; 2]; 4], rate: f64) -> [Vector3<f64>; 4] {
@@ -158,44 +142,4 @@ pub fn sample_count(samples: f64) -> usize {
 /// Turns per beat of the finest detail of a span's head path (pairs of terms).
 pub fn span_detail_per_beat(span: &Span) -> f64 {
     span.head.finest_turns() * span.phase_per_beat().abs()
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::motion::Rotor;
-
-    #[test]
-    fn jet3_matches_finite_differences() {
-        let c = Curve::new([
-            Rotor {
-                radius_m: 0.3,
-                turns: 1.0,
-                start_rad: 0.2,
-            },
-            Rotor {
-                radius_m: 0.1,
-                turns: -3.0,
-                start_rad: 1.0,
-            },
-        ]);
-        let h = 1e-6;
-        for &u in &[0.0, 0.13, 0.77] {
-            let j = jet3(&c, u);
-            let (a, b) = (jet3(&c, u - h), jet3(&c, u + h));
-            for n in 0..3 {
-                for k in 0..2 {
-                    let fd = (b[n][k] - a[n][k]) / (2.0 * h);
-                    let tol = 1e-5 * 10f64.powi(n as i32 * 2);
-                    assert!(
-                        (fd - j[n + 1][k]).abs() < tol,
-                        "order {n}, {fd} vs {}",
-                        j[n + 1][k]
-                    );
-                }
-            }
-            let old = c.jet(u);
-            assert_eq!([old.p, old.d1, old.d2], [j[0], j[1], j[2]]);
-        }
-    }
 }

@@ -81,35 +81,29 @@ impl Curve {
 
     /// Position and first two derivatives at phase `u`.
     pub fn jet(&self, u: f64) -> Jet {
-        let mut j = Jet {
-            p: [0.0; 2],
-            d1: [0.0; 2],
-            d2: [0.0; 2],
-        };
+        let [p, d1, d2, _] = self.derivatives(u);
+        Jet { p, d1, d2 }
+    }
+
+    /// Position and its first three derivatives at phase `u`
+    /// (metres per revolution^n, n = 0..=3).
+    pub fn derivatives(&self, u: f64) -> [[f64; 2]; 4] {
+        let mut j = [[0.0; 2]; 4];
         for r in &self.rotors {
             let w = TAU * r.turns;
             let (s, c) = num::sin_cos(r.start_rad + w * u);
             let a = r.radius_m;
-            j.p[0] += a * c;
-            j.p[1] += a * s;
-            j.d1[0] -= a * w * s;
-            j.d1[1] += a * w * c;
-            j.d2[0] -= a * w * w * c;
-            j.d2[1] -= a * w * w * s;
+            let (a1, a2, a3) = (a * w, a * w * w, a * w * w * w);
+            j[0][0] += a * c;
+            j[0][1] += a * s;
+            j[1][0] -= a1 * s;
+            j[1][1] += a1 * c;
+            j[2][0] -= a2 * c;
+            j[2][1] -= a2 * s;
+            j[3][0] += a3 * s;
+            j[3][1] -= a3 * c;
         }
         j
-    }
-
-    /// Third derivative at phase `u`.
-    pub fn d3(&self, u: f64) -> [f64; 2] {
-        let mut d = [0.0; 2];
-        for r in &self.rotors {
-            let w = TAU * r.turns;
-            let (s, c) = num::sin_cos(r.start_rad + w * u);
-            d[0] += r.radius_m * w * w * w * s;
-            d[1] -= r.radius_m * w * w * w * c;
-        }
-        d
     }
 
     /// True when the distance from the origin never changes (at most one term).
@@ -161,7 +155,7 @@ mod tests {
             for k in 0..2 {
                 assert!(((b.p[k] - a.p[k]) / (2.0 * h) - j.d1[k]).abs() < 1e-6);
                 assert!(((b.d1[k] - a.d1[k]) / (2.0 * h) - j.d2[k]).abs() < 1e-4);
-                assert!(((b.d2[k] - a.d2[k]) / (2.0 * h) - c.d3(u)[k]).abs() < 1e-2);
+                assert!(((b.d2[k] - a.d2[k]) / (2.0 * h) - c.derivatives(u)[3][k]).abs() < 1e-2);
             }
         }
     }
