@@ -170,17 +170,7 @@ pub fn span_events(show: &Show, motion: &PropMotion, i: usize, angles_deg: &[f64
     let total = span.beats();
     let inside = |s: f64| s > BOUNDARY_BEATS && s < total - BOUNDARY_BEATS;
     let make = |s: f64, kind: EventKind, angle_deg: Option<f64>| {
-        let beat = span.start_beat + s;
-        let state = motion.state_at_beat(&show.tempo, beat);
-        Event {
-            prop: motion.prop,
-            kind,
-            beat,
-            time_s: show.tempo.time_at_beat(beat),
-            position_m: state.head_m,
-            speed_m_s: state.head_vel.norm(),
-            angle_deg,
-        }
+        event_at(show, motion, span.start_beat + s, kind, angle_deg)
     };
     let mut out = Vec::new();
 
@@ -242,20 +232,28 @@ pub fn beat_events(show: &Show, motion: &PropMotion, kind: EventKind) -> Vec<Eve
     let end = show.tempo.beat_of_bar(last_bar + 1);
     let count = (end / step).ceil() as u64;
     (0..count)
-        .map(|k| {
-            let beat = k as f64 * step;
-            let state = motion.state_at_beat(&show.tempo, beat);
-            Event {
-                prop: motion.prop,
-                kind,
-                beat,
-                time_s: show.tempo.time_at_beat(beat),
-                position_m: state.head_m,
-                speed_m_s: state.head_vel.norm(),
-                angle_deg: None,
-            }
-        })
+        .map(|k| event_at(show, motion, k as f64 * step, kind, None))
         .collect()
+}
+
+/// The event of `kind` at global beat `beat`, with the head's position and speed.
+fn event_at(
+    show: &Show,
+    motion: &PropMotion,
+    beat: f64,
+    kind: EventKind,
+    angle_deg: Option<f64>,
+) -> Event {
+    let state = motion.state_at_beat(&show.tempo, beat);
+    Event {
+        prop: motion.prop,
+        kind,
+        beat,
+        time_s: show.tempo.time_at_beat(beat),
+        position_m: state.head_m,
+        speed_m_s: state.head_vel.norm(),
+        angle_deg,
+    }
 }
 
 /// The clock angle of a stage point about a span's anchor, in the span's
