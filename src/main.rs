@@ -42,7 +42,7 @@ enum Command {
         #[arg(long)]
         json: bool,
     },
-    /// Validate the show and report tether tension, speeds, spin rates, reach, stage space, collisions and jumps.
+    /// Validate the show and report tension, slack, spin rates, reach, collisions, jumps, flashes, LED current and landing errors.
     Check {
         /// The show file (TOML).
         show: PathBuf,
