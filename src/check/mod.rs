@@ -17,6 +17,7 @@
 //! refined by golden-section search to 1e-12 beats (see [`search`]).
 
 pub mod collision;
+pub mod hardware;
 pub mod jumps;
 pub mod kin;
 pub mod landing;
@@ -184,6 +185,13 @@ pub fn check_with_lights(
         }
     }
     warnings.extend(light_scan.warnings);
+    let (hardware, hardware_warnings) = hardware::scan(show, lights, settings.tolerance_mm);
+    for (prop, h) in show.props.iter().zip(hardware) {
+        if let Some(p) = props.iter_mut().find(|p| p.name == prop.name) {
+            p.hardware = Some(h);
+        }
+    }
+    warnings.extend(hardware_warnings);
     let (cue_landings, landing_summary, landing_warnings) =
         landing::scan(show, &lights.landings, settings.tolerance_mm);
     warnings.extend(landing_warnings);

@@ -219,6 +219,7 @@ pub fn scan_prop(
         mean_current_a: None,
         battery_hours: None,
         brightness_scale: None,
+        hardware: None,
         flash: None,
     };
     PropScan {

@@ -34,6 +34,12 @@ pub enum WarningKind {
     Current,
     /// A cue's colour changes land further from their events than the tolerance.
     Landing,
+    /// The show's frame rate is above what the prop's LED line can refresh.
+    Refresh,
+    /// No table form fits the prop's declared table memory.
+    Memory,
+    /// The prop's clock drifts off the music by more than the show allows.
+    Drift,
 }
 
 impl WarningKind {
@@ -47,6 +53,9 @@ impl WarningKind {
             WarningKind::Flash => "flash",
             WarningKind::Current => "current",
             WarningKind::Landing => "landing",
+            WarningKind::Refresh => "refresh",
+            WarningKind::Memory => "memory",
+            WarningKind::Drift => "drift",
         }
     }
 }
@@ -201,6 +210,8 @@ pub struct PropFigures {
     pub brightness_scale: Option<f64>,
     /// Flash counts of the prop's LEDs (W3C WCAG 2.x, as a guide for props).
     pub flash: Option<FlashFigures>,
+    /// Refresh limit, table sizes against memory, clock drift.
+    pub hardware: Option<super::hardware::HardwareFigures>,
 }
 
 /// The closest approach of two props while both play a pattern.
@@ -554,6 +565,28 @@ fn write_prop(out: &mut dyn Write, p: &PropFigures) -> io::Result<()> {
         writeln!(
             out,
             "  brightness     scale by {k:.3} to keep the peak within max_current_a"
+        )?;
+    }
+    if let Some(h) = &p.hardware {
+        writeln!(
+            out,
+            "  LED line       refreshes at most {:.0} frames/s",
+            h.max_frame_rate_hz
+        )?;
+        let memory = match (h.table_memory_bytes, h.fits) {
+            (Some(m), Some(form)) => format!("; the {form} table fits the {m} B declared"),
+            (Some(m), None) => format!("; neither fits the {m} B declared"),
+            _ => String::new(),
+        };
+        writeln!(
+            out,
+            "  tables         full {} B, compact {} B{memory}",
+            h.full_table_bytes, h.compact_table_bytes
+        )?;
+        writeln!(
+            out,
+            "  clock drift    up to {:.1} ms ({:.3} beats) by the end",
+            h.drift_ms, h.drift_beats
         )?;
     }
     if let Some(f) = &p.flash {

@@ -38,7 +38,7 @@ pub fn run(
     opts.tolerance_mm = tolerance_mm;
     opts.header_form = header_form;
     opts.previews = previews;
-    let (summary, _report) = compile(&show, &opts).map_err(|e| Failure::Failed(e.to_string()))?;
+    let (summary, report) = compile(&show, &opts).map_err(|e| Failure::Failed(e.to_string()))?;
     let io = |e: std::io::Error| Failure::Failed(format!("cannot write the summary: {e}"));
     writeln!(
         log,
@@ -67,6 +67,21 @@ pub fn run(
             t.csv.bytes
         )
         .map_err(io)?;
+    }
+    for p in &report.props {
+        if let Some(h) = &p.hardware {
+            let fits = match (h.table_memory_bytes, h.fits) {
+                (Some(m), Some(form)) => format!(", {form} table fits {m} B"),
+                (Some(m), None) => format!(", no table fits {m} B"),
+                _ => String::new(),
+            };
+            writeln!(
+                log,
+                "  {}: LED line up to {:.0} frames/s, clock drift up to {:.1} ms{fits}",
+                p.name, h.max_frame_rate_hz, h.drift_ms
+            )
+            .map_err(io)?;
+        }
     }
     if let Some(w) = &summary.worst_landing {
         let cue = &show.cues[w.cue];

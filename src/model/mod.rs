@@ -85,6 +85,27 @@ pub struct Prop {
     pub max_current_a: Option<f64>,
     /// Report the brightness scale that keeps the peak current under `max_current_a`.
     pub brightness_limit: bool,
+    // What the prop's hardware can play (`check`, hardware figures):
+    /// The LED driver family and its line rate.
+    pub led_driver: LedDriver,
+    /// LEDs on one data line (the longest line, if there are several).
+    pub leds_per_line: u32,
+    /// Memory free for frame tables, kilobytes (1 kB = 1024 bytes); `None`: not checked.
+    pub table_memory_kb: Option<f64>,
+    /// Tolerance of the prop's clock, parts per million.
+    pub clock_ppm: f64,
+}
+
+/// The family of LED driver on a prop's data line.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum LedDriver {
+    /// One data wire at 800 kbit/s, 1.25 us per bit, then a latch gap.
+    OneWire,
+    /// A data and a clock wire, at `clock_hz` bits per second.
+    Clocked {
+        /// The data clock, hertz.
+        clock_hz: f64,
+    },
 }
 
 /// A plane of motion: the two unit vectors of its clock.

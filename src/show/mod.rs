@@ -15,11 +15,19 @@ use toml::de::{DeTable, DeValue};
 
 use crate::diag::{Diagnostic, Diagnostics, Source, did_you_mean};
 use crate::model::{
-    Cue, EventKind, Pattern, Placement, Plane, Prop, PropKind, Section, Show, Term,
+    Cue, EventKind, LedDriver, Pattern, Placement, Plane, Prop, PropKind, Section, Show, Term,
 };
 use crate::motion::TempoMap;
 use crate::output::WireOrder;
 use reader::{Ctx, Tbl, describe, join, list};
+
+/// Data clock of a clocked (two-wire) LED line when `driver_clock_hz` is not
+/// given, hertz: a conservative figure that long lines usually manage
+/// (common practice).
+pub const DEFAULT_DRIVER_CLOCK_HZ: f64 = 4.0e6;
+/// Clock tolerance when `clock_ppm` is not given: a plain quartz crystal,
+/// parts per million (common practice).
+pub const DEFAULT_CLOCK_PPM: f64 = 50.0;
 
 /// The largest bar number a show may use.
 pub const MAX_BAR: i64 = 100_000;
@@ -64,6 +72,12 @@ const PROP_KEYS: &[&str] = &[
     "battery_mah",
     "max_current_a",
     "brightness_limit",
+    // Hardware limits:
+    "led_driver",
+    "driver_clock_hz",
+    "leds_per_line",
+    "table_memory_kb",
+    "clock_ppm",
 ];
 const PATTERN_KEYS: &[&str] = &[
     "plane",
@@ -389,8 +403,35 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
         let battery_mah = ctx.number_in(t, "battery_mah", false, 0.0, true, 1e7);
         let max_current_a = ctx.number_in(t, "max_current_a", false, 0.0, true, 1000.0);
         let brightness_limit = ctx.boolean(t, "brightness_limit").unwrap_or(false);
-        if let (Some(kind), Some(tether_m), Some(anchor_m), Some(wire_order)) =
-            (kind, tether, anchor, wire_order)
+        // Hardware limits: driver family, line length, table memory, clock.
+        let clock_hz = ctx.number_in(t, "driver_clock_hz", false, 0.0, true, 1e9);
+        let led_driver = match ctx.string(t, "led_driver", false) {
+            None => Some(LedDriver::OneWire),
+            Some((d, _)) if d == "one_wire" => Some(LedDriver::OneWire),
+            Some((d, _)) if d == "clocked" => Some(LedDriver::Clocked {
+                clock_hz: clock_hz.unwrap_or(DEFAULT_DRIVER_CLOCK_HZ),
+            }),
+            Some((d, sp)) => {
+                unknown_name(
+                    ctx,
+                    &t.key_path("led_driver"),
+                    sp,
+                    "LED driver",
+                    &d,
+                    &["one_wire", "clocked"],
+                );
+                None
+            }
+        };
+        let leds_per_line = ctx
+            .integer_in(t, "leds_per_line", false, 1, 4096)
+            .map_or(leds, |n| n as u32);
+        let table_memory_kb = ctx.number_in(t, "table_memory_kb", false, 0.0, true, 1e9);
+        let clock_ppm = ctx
+            .number_in(t, "clock_ppm", false, 0.0, false, 1e6)
+            .unwrap_or(DEFAULT_CLOCK_PPM);
+        if let (Some(kind), Some(tether_m), Some(anchor_m), Some(wire_order), Some(led_driver)) =
+            (kind, tether, anchor, wire_order, led_driver)
         {
             out.push(Prop {
                 name,
@@ -409,6 +450,10 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
                 battery_mah,
                 max_current_a,
                 brightness_limit,
+                led_driver,
+                leds_per_line,
+                table_memory_kb,
+                clock_ppm,
             });
         }
     }

@@ -1,0 +1,104 @@
+//! Will it play on the prop: refresh limit, memory fit and clock drift.
+
+use std::path::Path;
+use std::process::Command;
+
+fn show(extra_prop_keys: &str, frame_rate: u32, bars: u32) -> String {
+    format!(
+        "[show]\nframe_rate = {frame_rate}\nbpm = 120\n\
+         [prop.p]\ntether_m = 0.5\nanchor_m = [0, 1.5, 0]\nleds = 100\n{extra_prop_keys}\n\
+         [pattern.x]\nplane = \"wall\"\nbeats = 2\nhand_radius_m = 0.1\nhead_turns = -3\n\
+         [[section]]\nbars = [1, {bars}]\np = \"x\"\n\
+         [[cue]]\nprop = \"p\"\nbars = [1, {bars}]\nat = \"tip\"\ncolours = [\"red\", \"blue\"]\n"
+    )
+}
+
+fn report(text: &str) -> glowscore::check::report::CheckReport {
+    let show = glowscore::show::parse("hw.toml", text.to_string()).unwrap();
+    glowscore::check::check_show(&show).unwrap()
+}
+
+fn kinds(r: &glowscore::check::report::CheckReport) -> Vec<&'static str> {
+    r.warnings.iter().map(|w| w.kind.name()).collect()
+}
+
+#[test]
+fn one_wire_line_of_100_leds_cannot_play_500_frames_per_second() {
+    // From memory of common one-wire LED data sheets: 1.25 us per bit, 24
+    // bits per RGB LED, a latch of at least 50 us: about 328 frames/s.
+    let r = report(&show("", 500, 2));
+    let h = r.props[0].hardware.as_ref().unwrap();
+    assert!(
+        (h.max_frame_rate_hz - 327.87).abs() < 0.01,
+        "{}",
+        h.max_frame_rate_hz
+    );
+    assert!(kinds(&r).contains(&"refresh"));
+    let ok = report(&show("", 300, 2));
+    assert!(!kinds(&ok).contains(&"refresh"));
+    // A clocked line at 8 MHz plays it.
+    let clocked = report(&show(
+        "led_driver = \"clocked\"\ndriver_clock_hz = 8e6",
+        500,
+        2,
+    ));
+    assert!(!kinds(&clocked).contains(&"refresh"));
+}
+
+#[test]
+fn memory_warns_when_no_table_fits_and_names_the_form_that_does() {
+    let tight = report(&show("table_memory_kb = 0.5", 100, 2));
+    assert!(kinds(&tight).contains(&"memory"));
+    let roomy = report(&show("table_memory_kb = 64", 100, 2));
+    assert_eq!(
+        roomy.props[0].hardware.as_ref().unwrap().fits,
+        Some("compact")
+    );
+    assert!(!kinds(&roomy).contains(&"memory"));
+}
+
+#[test]
+fn drift_of_a_ceramic_resonator_warns_and_a_crystal_does_not() {
+    // 60 bars of 4 beats at 120 bpm: 120 s. 50 ppm (a crystal, common
+    // practice) drifts 6 ms; 0.5 % (a ceramic resonator) drifts 0.6 s.
+    let crystal = report(&show("", 100, 60));
+    let h = crystal.props[0].hardware.as_ref().unwrap();
+    assert!((h.drift_ms - 6.0).abs() < 1e-9, "{}", h.drift_ms);
+    let ceramic = report(&show("clock_ppm = 5000", 100, 60));
+    let h = ceramic.props[0].hardware.as_ref().unwrap();
+    assert!((h.drift_ms - 600.0).abs() < 1e-6);
+    assert!((h.drift_beats - 1.2).abs() < 1e-9);
+    assert!(kinds(&ceramic).contains(&"drift"));
+}
+
+#[test]
+fn reported_table_sizes_are_the_sizes_of_the_files_written() {
+    let dir = Path::new(env!("CARGO_TARGET_TMPDIR")).join("hardware-sizes");
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("show.toml");
+    std::fs::write(&file, show("wire_order = \"grbw\"", 200, 4)).unwrap();
+    let out = Command::new(env!("CARGO_BIN_EXE_glowscore"))
+        .arg("compile")
+        .arg(&file)
+        .arg("--out")
+        .arg(dir.join("out"))
+        .arg("--no-previews")
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(dir.join("out/report.json")).unwrap()).unwrap();
+    let hw = &v["props"]["p"]["hardware"];
+    for (key, file) in [
+        ("full_table_bytes", "p.full.bin"),
+        ("compact_table_bytes", "p.compact.bin"),
+    ] {
+        let size = std::fs::metadata(dir.join("out").join(file)).unwrap().len();
+        assert_eq!(hw[key].as_u64(), Some(size), "{key}");
+    }
+}
