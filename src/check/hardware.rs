@@ -49,6 +49,17 @@ pub struct HardwareFigures {
     pub landing_mm_at_max_rate: Option<f64>,
 }
 
+impl HardwareFigures {
+    /// How the tables meet the declared memory, as a phrase ("" when none is declared).
+    pub fn memory_phrase(&self) -> String {
+        match (self.table_memory_bytes, self.fits) {
+            (Some(m), Some(form)) => format!("the {form} table fits the {m} B declared"),
+            (Some(m), None) => format!("neither table fits the {m} B declared"),
+            _ => String::new(),
+        }
+    }
+}
+
 /// Highest refresh rate of `leds` LEDs on one line of `driver`, with
 /// `bytes_per_led` colour bytes each (3 for RGB, 4 for RGBW).
 pub fn max_frame_rate_hz(driver: LedDriver, leds: u32, bytes_per_led: usize) -> f64 {

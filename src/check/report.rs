@@ -573,14 +573,11 @@ fn write_prop(out: &mut dyn Write, p: &PropFigures) -> io::Result<()> {
             "  LED line       refreshes at most {:.0} frames/s",
             h.max_frame_rate_hz
         )?;
-        let memory = match (h.table_memory_bytes, h.fits) {
-            (Some(m), Some(form)) => format!("; the {form} table fits the {m} B declared"),
-            (Some(m), None) => format!("; neither fits the {m} B declared"),
-            _ => String::new(),
-        };
+        let memory = h.memory_phrase();
+        let sep = if memory.is_empty() { "" } else { "; " };
         writeln!(
             out,
-            "  tables         full {} B, compact {} B{memory}",
+            "  tables         full {} B, compact {} B{sep}{memory}",
             h.full_table_bytes, h.compact_table_bytes
         )?;
         writeln!(

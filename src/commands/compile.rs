@@ -70,14 +70,11 @@ pub fn run(
     }
     for p in &report.props {
         if let Some(h) = &p.hardware {
-            let fits = match (h.table_memory_bytes, h.fits) {
-                (Some(m), Some(form)) => format!(", {form} table fits {m} B"),
-                (Some(m), None) => format!(", no table fits {m} B"),
-                _ => String::new(),
-            };
+            let memory = h.memory_phrase();
+            let sep = if memory.is_empty() { "" } else { ", " };
             writeln!(
                 log,
-                "  {}: LED line up to {:.0} frames/s, clock drift up to {:.1} ms{fits}",
+                "  {}: LED line up to {:.0} frames/s, clock drift up to {:.1} ms{sep}{memory}",
                 p.name, h.max_frame_rate_hz, h.drift_ms
             )
             .map_err(io)?;
