@@ -2,9 +2,10 @@
 //! reference C decoder reproducing every frame, and failed runs leaving
 //! earlier outputs untouched.
 
+mod common;
+
 use std::path::{Path, PathBuf};
 use std::process::Command;
-use std::sync::OnceLock;
 
 fn bin() -> &'static str {
     env!("CARGO_BIN_EXE_glowscore")
@@ -47,28 +48,6 @@ fn csv_frames(path: &Path) -> Vec<Vec<u8>> {
                 .collect()
         })
         .collect()
-}
-
-/// The reference decoder, built once with the system C compiler.
-fn decoder() -> &'static Path {
-    static EXE: OnceLock<PathBuf> = OnceLock::new();
-    EXE.get_or_init(|| {
-        let fw = Path::new(env!("CARGO_MANIFEST_DIR")).join("firmware-formats");
-        let dir = Path::new(env!("CARGO_TARGET_TMPDIR")).join("compile-decoder");
-        std::fs::create_dir_all(&dir).unwrap();
-        let exe = dir.join("test_decode");
-        let ok = Command::new("cc")
-            .args(["-std=c99", "-Wall", "-Wextra", "-Werror", "-O1", "-I"])
-            .arg(&fw)
-            .arg("-o")
-            .arg(&exe)
-            .arg(fw.join("test_decode.c"))
-            .arg(fw.join("glowscore_table.c"))
-            .status()
-            .expect("the system C compiler `cc`");
-        assert!(ok.success());
-        exe
-    })
 }
 
 fn write_show(dir: &Path, text: &str) -> PathBuf {
@@ -191,7 +170,7 @@ fn the_c_decoder_reproduces_every_frame_of_the_demo_shows() {
             for form in ["full", "compact"] {
                 let table = out.join(format!("{stem}.{form}.bin"));
                 let dump = out.join(format!("{stem}.{form}.dump"));
-                let st = Command::new(decoder())
+                let st = Command::new(common::decoder())
                     .arg("dump")
                     .arg(&table)
                     .arg(&dump)
@@ -222,7 +201,7 @@ fn a_flipped_bit_is_refused_by_the_decoder() {
         bytes[mid] ^= 0x10;
         let bad = dir.join(format!("bad.{form}.bin"));
         std::fs::write(&bad, &bytes).unwrap();
-        let st = Command::new(decoder())
+        let st = Command::new(common::decoder())
             .arg("info")
             .arg(&bad)
             .output()

@@ -1,10 +1,11 @@
 //! Frame-table formats end to end: every writer on deterministic show-like frames, the Rust
 //! reader, and the C99 reference decoder compiled with the system compiler.
 
+mod common;
+
 use std::io::{self, Write};
 use std::path::{Path, PathBuf};
 use std::process::Command;
-use std::sync::OnceLock;
 
 use glowscore::output::{
     CHeaderWriter, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, OutputError,
@@ -272,43 +273,6 @@ fn tmp_dir(name: &str) -> PathBuf {
     dir
 }
 
-fn firmware_dir() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("firmware-formats")
-}
-
-/// Compiles test_decode.c and glowscore_table.c with `cc -std=c99 -Wall -Wextra -Werror -pedantic`.
-fn compile(out: &Path, extra: &[&str]) {
-    let fw = firmware_dir();
-    let status = Command::new("cc")
-        .args([
-            "-std=c99",
-            "-Wall",
-            "-Wextra",
-            "-Werror",
-            "-pedantic",
-            "-O1",
-        ])
-        .arg("-I")
-        .arg(&fw)
-        .args(extra)
-        .arg("-o")
-        .arg(out)
-        .arg(fw.join("test_decode.c"))
-        .arg(fw.join("glowscore_table.c"))
-        .status()
-        .expect("run the system C compiler `cc`");
-    assert!(status.success(), "cc failed for {}", out.display());
-}
-
-fn decoder() -> &'static Path {
-    static DECODER: OnceLock<PathBuf> = OnceLock::new();
-    DECODER.get_or_init(|| {
-        let exe = tmp_dir("c").join("test_decode");
-        compile(&exe, &[]);
-        exe
-    })
-}
-
 /// Runs the C decoder; returns (exit code, stdout, stderr).
 fn run_c(exe: &Path, args: &[&str]) -> (i32, String, String) {
     let out = Command::new(exe)
@@ -331,7 +295,10 @@ fn c_decode_all(bytes: &[u8], dir: &Path, name: &str) -> Vec<u8> {
     let file = dir.join(format!("{name}.bin"));
     let dump = dir.join(format!("{name}.dump"));
     std::fs::write(&file, bytes).unwrap();
-    let (code, _, err) = run_c(decoder(), &["dump", path_str(&file), path_str(&dump)]);
+    let (code, _, err) = run_c(
+        common::decoder(),
+        &["dump", path_str(&file), path_str(&dump)],
+    );
     assert_eq!(code, 0, "C decoder refused {name}: {err}");
     std::fs::read(&dump).unwrap()
 }
@@ -348,7 +315,7 @@ fn crc32_check_value_of_123456789() {
     let dir = tmp_dir("crc");
     let file = dir.join("check.txt");
     std::fs::write(&file, b"123456789").unwrap();
-    let (code, out, _) = run_c(decoder(), &["crc", path_str(&file)]);
+    let (code, out, _) = run_c(common::decoder(), &["crc", path_str(&file)]);
     assert_eq!(code, 0);
     assert_eq!(out.trim(), "cbf43926");
 }
@@ -384,7 +351,7 @@ fn round_trip(name: &str, leds: u32, order: WireOrder, frames: usize, seed: u64)
         );
         // The C decoder reports the header figures.
         let file = dir.join(format!("{tag}.bin"));
-        let (code, info, _) = run_c(decoder(), &["info", path_str(&file)]);
+        let (code, info, _) = run_c(common::decoder(), &["info", path_str(&file)]);
         assert_eq!(code, 0);
         let form_name = if form == TableForm::Full {
             "full"
@@ -406,7 +373,10 @@ fn round_trip(name: &str, leds: u32, order: WireOrder, frames: usize, seed: u64)
         let mut rng = Rng(seed ^ 0x5eed);
         for _ in 0..5 {
             let k = rng.below(frames.len() as u64) as usize;
-            let (code, hex, _) = run_c(decoder(), &["frame", path_str(&file), &k.to_string()]);
+            let (code, hex, _) = run_c(
+                common::decoder(),
+                &["frame", path_str(&file), &k.to_string()],
+            );
             assert_eq!(code, 0);
             let want_hex: String = want[k * fs..(k + 1) * fs]
                 .iter()
@@ -415,7 +385,7 @@ fn round_trip(name: &str, leds: u32, order: WireOrder, frames: usize, seed: u64)
             assert_eq!(hex.trim(), want_hex, "{name} {form:?} frame {k}");
         }
         let (code, _, err) = run_c(
-            decoder(),
+            common::decoder(),
             &["frame", path_str(&file), &frames.len().to_string()],
         );
         assert_eq!((code, err.trim()), (1, "error: frame out of range"));
@@ -497,7 +467,7 @@ fn a_flipped_bit_is_refused_by_both_decoders() {
             );
             let file = dir.join(format!("{form:?}-{at}.bin"));
             std::fs::write(&file, &bytes).unwrap();
-            let (code, _, err) = run_c(decoder(), &["info", path_str(&file)]);
+            let (code, _, err) = run_c(common::decoder(), &["info", path_str(&file)]);
             assert_eq!(
                 (code, err.trim()),
                 (1, "error: CRC mismatch"),
@@ -534,7 +504,7 @@ fn every_single_byte_error_is_refused() {
             bad[at] ^= 0x10;
             let file = dir.join(format!("{form:?}-{at}.bin"));
             std::fs::write(&file, &bad).unwrap();
-            let (code, _, _) = run_c(decoder(), &["info", path_str(&file)]);
+            let (code, _, _) = run_c(common::decoder(), &["info", path_str(&file)]);
             assert_eq!(code, 1, "{form:?}: C accepted byte {at} changed");
         }
         // Truncation and extension are refused as well.
@@ -1003,7 +973,7 @@ fn c_header_compiles_and_embeds_a_decodable_table() {
         let header = dir.join(format!("{ident}.h"));
         std::fs::write(&header, &text).unwrap();
         let exe = dir.join(format!("embed_{ident}"));
-        compile(
+        common::build_decoder(
             &exe,
             &[
                 &format!("-DEMBED_HEADER=\"{}\"", path_str(&header)),
@@ -1059,7 +1029,7 @@ fn put_u32(bytes: &mut [u8], at: usize, v: u32) {
 fn verdicts(bytes: &[u8], dir: &Path, tag: &str) -> (Result<(), ReadError>, String) {
     let file = dir.join(format!("{}.bin", tag.replace(' ', "_")));
     std::fs::write(&file, bytes).unwrap();
-    let (code, _, err) = run_c(decoder(), &["info", path_str(&file)]);
+    let (code, _, err) = run_c(common::decoder(), &["info", path_str(&file)]);
     let c = if code == 0 {
         "ok".to_string()
     } else {

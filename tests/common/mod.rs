@@ -1,7 +1,51 @@
 //! Helpers shared by the integration tests.
 #![allow(dead_code)]
 
+use std::path::{Path, PathBuf};
+use std::process::Command;
+use std::sync::OnceLock;
+
 use glowscore::model::Show;
+
+/// Builds the reference decoder's driver (`firmware-formats/test_decode.c`
+/// and `glowscore_table.c`) into `out` with the system C compiler, strictly:
+/// `cc -std=c99 -Wall -Wextra -Werror -pedantic`, plus `extra` flags.
+pub fn build_decoder(out: &Path, extra: &[&str]) {
+    let fw = Path::new(env!("CARGO_MANIFEST_DIR")).join("firmware-formats");
+    let status = Command::new("cc")
+        .args([
+            "-std=c99",
+            "-Wall",
+            "-Wextra",
+            "-Werror",
+            "-pedantic",
+            "-O1",
+        ])
+        .arg("-I")
+        .arg(&fw)
+        .args(extra)
+        .arg("-o")
+        .arg(out)
+        .arg(fw.join("test_decode.c"))
+        .arg(fw.join("glowscore_table.c"))
+        .status()
+        .expect("run the system C compiler `cc`");
+    assert!(status.success(), "cc failed for {}", out.display());
+}
+
+/// The reference decoder's driver, built once per test binary.
+pub fn decoder() -> &'static Path {
+    static EXE: OnceLock<PathBuf> = OnceLock::new();
+    EXE.get_or_init(|| {
+        let dir = Path::new(env!("CARGO_TARGET_TMPDIR"))
+            .join("decoder")
+            .join(std::process::id().to_string());
+        std::fs::create_dir_all(&dir).expect("temp dir");
+        let exe = dir.join("test_decode");
+        build_decoder(&exe, &[]);
+        exe
+    })
+}
 
 /// A show from TOML text; panics with the diagnostics if it is invalid.
 #[track_caller]
