@@ -52,6 +52,9 @@ enum Command {
         /// Fail (exit status 1) when there is any warning.
         #[arg(long)]
         deny_warnings: bool,
+        /// Landing tolerance along the head's path, millimetres.
+        #[arg(long, default_value_t = 10.0, allow_hyphen_values = true)]
+        tolerance_mm: f64,
     },
     /// Render a long-exposure picture of the show, or of some bars of it, as a PNG.
     Preview(Box<commands::preview::PreviewArgs>),
@@ -96,7 +99,11 @@ fn main() -> ExitCode {
             show,
             json,
             deny_warnings,
-        } => commands::check::run(&show, json, deny_warnings, &mut std::io::stdout().lock()),
+            tolerance_mm,
+        } => {
+            let out = &mut std::io::stdout().lock();
+            commands::check::run(&show, json, deny_warnings, tolerance_mm, out)
+        }
         Command::Preview(args) => commands::preview::run(&args, &mut std::io::stdout().lock()),
     };
     match result {

@@ -143,3 +143,28 @@ fn a_show_too_fast_to_check_fails_instead_of_hanging() {
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(err.contains("turns of spin in all, more than"), "{err}");
 }
+
+#[test]
+fn tolerance_option_sets_the_landing_limit() {
+    let show = concat!(env!("CARGO_MANIFEST_DIR"), "/shows/moth-garden.toml");
+    let landing = |args: &[&str]| {
+        let out = run(&[&["check", show, "--json"], args].concat());
+        let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        let n = v["warnings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .filter(|w| w["kind"] == "landing")
+            .count();
+        (v["landing"]["tolerance_mm"].as_f64().unwrap(), n)
+    };
+    // The demo's worst change lands under 4 mm off at 500 frames/s.
+    assert_eq!(landing(&[]), (10.0, 0));
+    let (tol, n) = landing(&["--tolerance-mm", "2"]);
+    assert_eq!(tol, 2.0);
+    assert!(n > 0);
+    assert_eq!(
+        run(&["check", show, "--tolerance-mm", "-1"]).status.code(),
+        Some(1)
+    );
+}

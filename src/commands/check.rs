@@ -5,7 +5,7 @@ use std::io::Write;
 use std::path::Path;
 
 use super::Failure;
-use crate::check::{CheckReport, check_show};
+use crate::check::{CheckReport, CheckSettings, check};
 
 /// Checks the show at `path` and prints the report to `out`.
 ///
@@ -16,8 +16,14 @@ pub fn run(
     path: &Path,
     json: bool,
     deny_warnings: bool,
+    tolerance_mm: f64,
     out: &mut dyn Write,
 ) -> Result<(), Failure> {
+    if !(tolerance_mm.is_finite() && tolerance_mm > 0.0) {
+        return Err(Failure::Failed(format!(
+            "--tolerance-mm must be a positive number of millimetres, got {tolerance_mm}"
+        )));
+    }
     let io = |e: std::io::Error| Failure::Failed(format!("cannot write the report: {e}"));
     let show = match crate::show::load(path) {
         Ok(show) => show,
@@ -28,7 +34,12 @@ pub fn run(
             return Err(Failure::Invalid(diags));
         }
     };
-    let report = check_show(&show).map_err(|e| Failure::Failed(e.to_string()))?;
+    let settings = CheckSettings {
+        tolerance_mm,
+        ..CheckSettings::default()
+    };
+    let motions = crate::motion::simulate(&show);
+    let report = check(&show, &motions, &settings).map_err(|e| Failure::Failed(e.to_string()))?;
     if json {
         report.write_json(out).map_err(io)?;
     } else {
