@@ -19,11 +19,7 @@ pub fn run(
     tolerance_mm: f64,
     out: &mut dyn Write,
 ) -> Result<(), Failure> {
-    if !(tolerance_mm.is_finite() && tolerance_mm > 0.0) {
-        return Err(Failure::Failed(format!(
-            "--tolerance-mm must be a positive number of millimetres, got {tolerance_mm}"
-        )));
-    }
+    super::check_tolerance(tolerance_mm)?;
     let io = |e: std::io::Error| Failure::Failed(format!("cannot write the report: {e}"));
     let show = match crate::show::load(path) {
         Ok(show) => show,

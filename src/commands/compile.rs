@@ -25,11 +25,7 @@ pub fn run(
     previews: bool,
     log: &mut dyn Write,
 ) -> Result<(), Failure> {
-    if !(tolerance_mm.is_finite() && tolerance_mm > 0.0) {
-        return Err(Failure::Failed(format!(
-            "--tolerance-mm must be a positive number of millimetres, got {tolerance_mm}"
-        )));
-    }
+    super::check_tolerance(tolerance_mm)?;
     let show = crate::show::load(path)?;
     let dir = out
         .map(Path::to_path_buf)

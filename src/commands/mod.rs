@@ -38,6 +38,17 @@ impl From<Diagnostics> for Failure {
     }
 }
 
+/// Refuses a landing tolerance (`--tolerance-mm`) that is not a positive
+/// number of millimetres.
+pub fn check_tolerance(tolerance_mm: f64) -> Result<(), Failure> {
+    if tolerance_mm.is_finite() && tolerance_mm > 0.0 {
+        return Ok(());
+    }
+    Err(Failure::Failed(format!(
+        "--tolerance-mm must be a positive number of millimetres, got {tolerance_mm}"
+    )))
+}
+
 /// Rounds to `digits` decimal places, for stable, readable JSON.
 pub fn round_to(x: f64, digits: i32) -> f64 {
     let k = 10f64.powi(digits);
