@@ -13,8 +13,9 @@ use std::path::{Path, PathBuf};
 use rayon::prelude::*;
 use serde::Serialize;
 
-use crate::check::{CheckReport, CheckSettings};
-use crate::cues::{self, Landing, Lights, PropLights};
+use crate::check::light::{LightScan, LightTally};
+use crate::check::{CheckReport, CheckSettings, FrameFigures};
+use crate::cues::{self, Landing, Lights};
 use crate::events::find_events;
 use crate::model::Show;
 use crate::motion::{PropMotion, simulate};
@@ -160,35 +161,30 @@ pub fn compile(
 ) -> Result<(CompileSummary, CheckReport), CompileError> {
     check_limits(show)?;
     let motions = simulate(show);
-    let events = find_events(show, &motions);
-    let mut lights = cues::place(show, &motions, &events);
     let settings = CheckSettings {
         tolerance_mm: opts.tolerance_mm,
         ..CheckSettings::default()
     };
-    let check = |lights: &Lights| {
-        crate::check::check_with_lights(show, &motions, lights, &settings)
-            .map_err(|e| CompileError::Check(e.to_string()))
-    };
-    let mut report = check(&lights)?;
+    let check_error = |e: crate::check::CheckError| CompileError::Check(e.to_string());
+    crate::check::within_budget(show, &motions, &settings).map_err(check_error)?;
+    let events = find_events(show, &motions);
+    let mut lights = cues::place(show, &motions, &events);
     // Props with `brightness_limit = true` are dimmed to stay within their
-    // `max_current_a`; the report then describes the tables as written.
+    // `max_current_a`: that needs their peak current, from a first pass.
     let mut dimmed = Vec::new();
-    for pl in &mut lights.props {
-        let name = &show.props[pl.prop].name;
-        let scale = report
-            .props
-            .iter()
-            .find(|p| &p.name == name)
-            .and_then(|p| p.brightness_scale)
-            .unwrap_or(1.0);
-        if scale < 1.0 {
-            pl.brightness *= scale;
-            dimmed.push((name.clone(), scale));
+    if show
+        .props
+        .iter()
+        .any(|p| p.brightness_limit && p.max_current_a.is_some())
+    {
+        let scan = crate::check::light::scan(show, &lights);
+        for (pl, figures) in lights.props.iter_mut().zip(&scan.props) {
+            let scale = figures.brightness_scale.unwrap_or(1.0);
+            if scale < 1.0 {
+                pl.brightness *= scale;
+                dimmed.push((show.props[pl.prop].name.clone(), scale));
+            }
         }
-    }
-    if !dimmed.is_empty() {
-        report = check(&lights)?;
     }
 
     let io = |what: &Path, e: std::io::Error| {
@@ -200,8 +196,8 @@ pub fn compile(
         .join(format!(".glowscore-staging-{}", std::process::id()));
     let _ = fs::remove_dir_all(&staging);
     fs::create_dir(&staging).map_err(|e| io(&staging, e))?;
-    let result = write_all(show, &motions, &lights, &report, opts, &staging, &dimmed);
-    let outcome = result.and_then(|summary| {
+    let result = write_all(show, &motions, &lights, &settings, opts, &staging, &dimmed);
+    let outcome = result.and_then(|(summary, report)| {
         let mut names: Vec<String> = summary
             .tables
             .iter()
@@ -213,31 +209,28 @@ pub fn compile(
             let to = opts.out_dir.join(name);
             fs::rename(staging.join(name), &to).map_err(|e| io(&to, e))?;
         }
-        Ok(summary)
+        Ok((summary, report))
     });
     let _ = fs::remove_dir_all(&staging);
-    outcome.map(|s| (s, report))
+    outcome
 }
 
+/// Writes every file into `dir`: the tables (gathering the light figures as
+/// the frames go by), the previews, then the check report.
 fn write_all(
     show: &Show,
     motions: &[PropMotion],
     lights: &Lights,
-    report: &CheckReport,
+    settings: &CheckSettings,
     opts: &CompileOptions,
     dir: &Path,
     dimmed: &[(String, f64)],
-) -> Result<CompileSummary, CompileError> {
+) -> Result<(CompileSummary, CheckReport), CompileError> {
     // Within u32: `check_limits` has passed.
     let frames = show.frame_count() as u32;
-    let tables: Vec<(String, PropTables)> = lights
-        .props
-        .par_iter()
-        .map(|pl| {
-            write_prop(show, pl, frames, opts.header_form, dir)
-                .map(|t| (show.props[pl.prop].name.clone(), t))
-        })
-        .collect::<Result<_, _>>()?;
+    let (tables, figures) = write_tables(show, lights, frames, opts.header_form, dir)?;
+    let report = crate::check::check_with_frames(show, motions, lights, figures, settings)
+        .map_err(|e| CompileError::Check(e.to_string()))?;
     let previews = if opts.previews {
         preview::write_previews(show, motions, lights, dir, &opts.preview)?
             .iter()
@@ -262,8 +255,8 @@ fn write_all(
         warnings: report.warnings.len(),
         dimmed: dimmed.to_vec(),
     };
-    write_report(&dir.join("report.json"), &summary, report)?;
-    Ok(summary)
+    write_report(&dir.join("report.json"), &summary, &report)?;
+    Ok((summary, report))
 }
 
 /// Writes `report.json`: the check report with the tables and previews added.
@@ -299,67 +292,155 @@ fn write_report(
     f.flush().map_err(io)
 }
 
-/// Streams every frame of one prop into its four files.
-fn write_prop(
+/// The four streaming writers of one prop.
+struct PropWriters {
+    names: [String; 4],
+    leds: usize,
+    csv: CsvWriter<File>,
+    full: FullTableWriter<File>,
+    compact: CompactTableWriter<File>,
+    header: CHeaderWriter<File>,
+}
+
+impl PropWriters {
+    /// Opens the four files of prop `prop` in `dir`.
+    fn open(
+        show: &Show,
+        prop: usize,
+        frames: u32,
+        header_form: TableForm,
+        dir: &Path,
+    ) -> Result<PropWriters, CompileError> {
+        let prop = &show.props[prop];
+        let spec = TableSpec {
+            frame_rate_hz: show.frame_rate_hz,
+            leds: prop.leds,
+            order: prop.wire_order,
+            frame_count: frames,
+        };
+        let names = [
+            format!("{}.csv", prop.name),
+            format!("{}.full.bin", prop.name),
+            format!("{}.compact.bin", prop.name),
+            format!("{}.h", prop.name),
+        ];
+        let open = |name: &str| {
+            let path = dir.join(name);
+            File::create(&path)
+                .map_err(|e| CompileError::Io(format!("cannot create `{}`: {e}", path.display())))
+        };
+        Ok(PropWriters {
+            csv: CsvWriter::new(open(&names[0])?, spec)?,
+            full: FullTableWriter::new(open(&names[1])?, spec)?,
+            compact: CompactTableWriter::new(open(&names[2])?, spec)?,
+            header: CHeaderWriter::new(open(&names[3])?, spec, &prop.name, header_form)?,
+            names,
+            leds: prop.leds as usize,
+        })
+    }
+
+    /// Writes `n` frames held one after the other in `block`; the text and
+    /// the binary forms are written side by side.
+    fn push_block(&mut self, block: &[[u8; 3]], n: usize) -> Result<(), CompileError> {
+        let frames = &block[..n * self.leds];
+        let leds = self.leds;
+        let (text, binary) = rayon::join(
+            || -> Result<(), OutputError> {
+                for f in frames.chunks(leds) {
+                    self.csv.push_frame(f)?;
+                    self.header.push_frame(f)?;
+                }
+                Ok(())
+            },
+            || -> Result<(), OutputError> {
+                for f in frames.chunks(leds) {
+                    self.full.push_frame(f)?;
+                    self.compact.push_frame(f)?;
+                }
+                Ok(())
+            },
+        );
+        text?;
+        binary?;
+        Ok(())
+    }
+
+    /// Finishes the four files.
+    fn finish(self, prop: &crate::model::Prop) -> Result<PropTables, CompileError> {
+        let info = |name: &String, s: WriteStats| FileInfo {
+            file: name.clone(),
+            bytes: s.bytes_written,
+            crc32: s.crc32.map(|c| format!("0x{c:08x}")),
+        };
+        let names = &self.names;
+        let (c, f, p, h) = (
+            self.csv.finish()?,
+            self.full.finish()?,
+            self.compact.finish()?,
+            self.header.finish()?,
+        );
+        Ok(PropTables {
+            leds: prop.leds,
+            wire_order: prop.wire_order.name(),
+            csv: FileInfo {
+                crc32: None,
+                ..info(&names[0], c)
+            },
+            full: info(&names[1], f),
+            compact: info(&names[2], p),
+            header: FileInfo {
+                crc32: None,
+                ..info(&names[3], h)
+            },
+        })
+    }
+}
+
+/// Streams every frame of every prop into its four files, block by block,
+/// and gathers the figures the check reads off the frames on the way.
+fn write_tables(
     show: &Show,
-    pl: &PropLights,
+    lights: &Lights,
     frames: u32,
     header_form: TableForm,
     dir: &Path,
-) -> Result<PropTables, CompileError> {
-    let prop = &show.props[pl.prop];
-    let spec = TableSpec {
-        frame_rate_hz: show.frame_rate_hz,
-        leds: prop.leds,
-        order: prop.wire_order,
-        frame_count: frames,
-    };
-    let names = [
-        format!("{}.csv", prop.name),
-        format!("{}.full.bin", prop.name),
-        format!("{}.compact.bin", prop.name),
-        format!("{}.h", prop.name),
-    ];
-    let open = |name: &str| {
-        let path = dir.join(name);
-        File::create(&path)
-            .map_err(|e| CompileError::Io(format!("cannot create `{}`: {e}", path.display())))
-    };
-    let mut csv = CsvWriter::new(open(&names[0])?, spec)?;
-    let mut full = FullTableWriter::new(open(&names[1])?, spec)?;
-    let mut compact = CompactTableWriter::new(open(&names[2])?, spec)?;
-    let mut header = CHeaderWriter::new(open(&names[3])?, spec, &prop.name, header_form)?;
-    let mut frame = vec![[0u8; 3]; prop.leds as usize];
-    for k in 0..u64::from(frames) {
-        pl.fill_frame(show, k, &mut frame);
-        csv.push_frame(&frame)?;
-        full.push_frame(&frame)?;
-        compact.push_frame(&frame)?;
-        header.push_frame(&frame)?;
-    }
-    let info = |name: &String, s: WriteStats| FileInfo {
-        file: name.clone(),
-        bytes: s.bytes_written,
-        crc32: s.crc32.map(|c| format!("0x{c:08x}")),
-    };
-    let (c, f, p, h) = (
-        csv.finish()?,
-        full.finish()?,
-        compact.finish()?,
-        header.finish()?,
+) -> Result<(Vec<(String, PropTables)>, FrameFigures), CompileError> {
+    let mut writers: Vec<PropWriters> = (0..show.props.len())
+        .map(|i| PropWriters::open(show, i, frames, header_form, dir))
+        .collect::<Result<_, _>>()?;
+    let mut tally = LightTally::new(show);
+    cues::for_each_block(show, lights, u64::from(frames), |_, n, blocks| {
+        let (written, ()) = rayon::join(
+            || {
+                writers
+                    .par_iter_mut()
+                    .zip(blocks)
+                    .try_for_each(|(w, block)| w.push_block(block, n))
+            },
+            || {
+                if let Some(t) = tally.as_mut() {
+                    t.push_block(show, lights, n, blocks);
+                }
+            },
+        );
+        written
+    })?;
+    let tables: Vec<(String, PropTables)> = writers
+        .into_iter()
+        .zip(&show.props)
+        .map(|(w, p)| w.finish(p).map(|t| (p.name.clone(), t)))
+        .collect::<Result<_, _>>()?;
+    let light = tally.map_or_else(
+        || LightScan {
+            props: Vec::new(),
+            stage_flash: None,
+            warnings: Vec::new(),
+        },
+        |t| t.finish(show),
     );
-    Ok(PropTables {
-        leds: prop.leds,
-        wire_order: prop.wire_order.name(),
-        csv: FileInfo {
-            crc32: None,
-            ..info(&names[0], c)
-        },
-        full: info(&names[1], f),
-        compact: info(&names[2], p),
-        header: FileInfo {
-            crc32: None,
-            ..info(&names[3], h)
-        },
-    })
+    let figures = FrameFigures {
+        light,
+        compact_table_bytes: tables.iter().map(|(_, t)| Some(t.compact.bytes)).collect(),
+    };
+    Ok((tables, figures))
 }

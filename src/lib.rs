@@ -20,5 +20,6 @@ pub mod model;
 pub mod motion;
 pub mod num;
 pub mod output;
+pub mod picture;
 pub mod preview;
 pub mod show;

@@ -76,15 +76,17 @@ fn ortho(viewport: [f64; 4], w: u32, h: u32, shutter: Shutter) -> PreviewOptions
 fn emitted(s: &Setup, window: (f64, f64)) -> [f64; 3] {
     let rate = f64::from(s.show.frame_rate_hz);
     let mut sum = [0.0; 3];
-    for (p, pl) in s.lights.props.iter().enumerate() {
-        let leds = f64::from(s.show.props[p].leds);
+    for pl in &s.lights.props {
+        let mut frame = vec![[0u8; 3]; pl.leds as usize];
         for k in 0..s.show.frame_count() {
             let a = (k as f64 / rate).max(window.0);
             let b = ((k + 1) as f64 / rate).min(window.1);
             if b > a {
-                let bytes = pl.bytes(&s.show, k);
-                for c in 0..3 {
-                    sum[c] += f64::from(bytes[c]) / 255.0 * leds * (b - a);
+                pl.fill_frame(&s.show, k, &mut frame);
+                for led in &frame {
+                    for c in 0..3 {
+                        sum[c] += f64::from(led[c]) / 255.0 * (b - a);
+                    }
                 }
             }
         }

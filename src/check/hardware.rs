@@ -14,7 +14,7 @@ use serde::Serialize;
 use super::report::{Warning, WarningKind, When, r9, r9_opt};
 use crate::cues::Lights;
 use crate::model::{LedDriver, Prop, Show};
-use crate::output::{CompactTableWriter, FrameWriter, HEADER_LEN, TRAILER_LEN, TableSpec};
+use crate::output::{CompactTableWriter, HEADER_LEN, TRAILER_LEN, TableSpec};
 
 /// One-wire bit time, seconds (800 kbit/s; from memory of common data sheets).
 pub const ONE_WIRE_BIT_S: f64 = 1.25e-6;
@@ -86,7 +86,7 @@ pub fn full_table_bytes(spec: &TableSpec) -> u64 {
 }
 
 /// A writer that only counts bytes.
-struct Count;
+pub struct Count;
 
 impl std::io::Write for Count {
     fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
@@ -97,22 +97,25 @@ impl std::io::Write for Count {
     }
 }
 
-/// Size of the compact table of prop `pl`, bytes, by encoding it.
-fn compact_table_bytes(show: &Show, lights: &Lights, prop: usize, spec: TableSpec) -> Option<u64> {
-    let pl = &lights.props[prop];
-    let mut w = CompactTableWriter::new(Count, spec).ok()?;
-    let mut frame = vec![[0u8; 3]; spec.leds as usize];
-    for k in 0..u64::from(spec.frame_count) {
-        pl.fill_frame(show, k, &mut frame);
-        w.push_frame(&frame).ok()?;
-    }
-    w.finish().ok().map(|s| s.bytes_written)
+/// A compact table encoder that only counts its bytes, for props of `show`.
+pub fn compact_counter(show: &Show, prop: usize) -> Option<CompactTableWriter<Count>> {
+    let p = &show.props[prop];
+    let spec = TableSpec {
+        frame_rate_hz: show.frame_rate_hz,
+        leds: p.leds,
+        order: p.wire_order,
+        frame_count: show.frame_count().min(u64::from(u32::MAX)) as u32,
+    };
+    CompactTableWriter::new(Count, spec).ok()
 }
 
 /// The hardware figures and warnings of every prop, in prop order.
+/// `compact_bytes[i]` is the size of prop `i`'s compact table (as written,
+/// or counted by [`compact_counter`]), `None` where it could not be encoded.
 pub fn scan(
     show: &Show,
     lights: &Lights,
+    compact_bytes: &[Option<u64>],
     tolerance_mm: f64,
 ) -> (Vec<HardwareFigures>, Vec<Warning>) {
     let frames = show.frame_count().min(u64::from(u32::MAX)) as u32;
@@ -143,7 +146,7 @@ pub fn scan(
             prop.wire_order.bytes_per_led(),
         );
         let full = full_table_bytes(&spec);
-        let compact = compact_table_bytes(show, lights, i, spec).unwrap_or(full);
+        let compact = compact_bytes.get(i).copied().flatten().unwrap_or(full);
         let memory = prop.table_memory_kb.map(|kb| (kb * 1024.0).floor() as u64);
         let fits = memory.and_then(|m| {
             if compact <= m && compact <= full {

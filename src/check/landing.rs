@@ -83,6 +83,10 @@ pub fn scan(
     let mut warnings = Vec::new();
     let rate = show.frame_rate_hz;
     for (ci, cue) in show.cues.iter().enumerate() {
+        if cue.painting().is_some() {
+            // A painting has no events to land on (its coverage is reported instead).
+            continue;
+        }
         let mut n = 0usize;
         let (mut sum_ms, mut sum_mm) = (0.0, 0.0);
         let (mut worst_ms, mut worst_deg, mut speed) = (0.0f64, 0.0f64, 0.0f64);
@@ -102,7 +106,7 @@ pub fn scan(
         let entry = CueLanding {
             cue: ci,
             prop: show.props[cue.prop].name.clone(),
-            at: cue.at.name(),
+            at: cue.at_name(),
             bars: [cue.first_bar, cue.last_bar],
             changes: n,
             worst_ms: some(worst_ms),

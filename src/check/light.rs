@@ -3,9 +3,10 @@
 //!
 //! # Flash safety
 //!
-//! Each prop's LEDs all show one colour per frame ([`PropLights::bytes`]);
-//! that colour, read as linear light ([`flash::led_light`]), is one light
-//! source for [`flash::FlashAnalyser`], which counts general and red flashes
+//! Each prop is one light source: the mean linear light of its LEDs on the
+//! frame (the LED bytes read as linear light, as [`crate::flash::led_light`] does;
+//! on a plain head every LED shows the same colour, so it is that colour).
+//! It goes to [`crate::flash::FlashAnalyser`], which counts general and red flashes
 //! in every one-second window after the W3C WCAG 2.x definitions (see
 //! [`crate::flash`] for what comes from WCAG and what is our reading). The
 //! whole stage is a second kind of source: the mean, channel by channel, of
@@ -21,8 +22,8 @@
 //!
 //! # LED current and battery
 //!
-//! A frame's current is `leds x channel_current_a x (r + g + b) / 255 +
-//! idle_current_a`, with r, g, b the table bytes: each channel draws its
+//! A frame's current is `channel_current_a x (sum of every byte of every
+//! LED) / 255 + idle_current_a`, the bytes those of the table: each channel draws its
 //! full-brightness current in proportion to its byte (the LEDs are driven by
 //! PWM or a linear current set from the byte). Peak and mean are over every
 //! frame of the show; battery time is `battery_mah / 1000 / mean current`,
@@ -37,8 +38,8 @@
 use serde::Serialize;
 
 use super::report::{PropFigures, Warning, WarningKind, When, r9};
-use crate::cues::Lights;
-use crate::flash::{self, FlashAnalyser, FlashReport, MAX_FLASHES};
+use crate::cues::{self, Lights};
+use crate::flash::{FlashAnalyser, FlashReport, MAX_FLASHES};
 use crate::model::Show;
 
 /// The prop name that stage-wide flash warnings carry.
@@ -120,10 +121,17 @@ pub struct LightScan {
     pub warnings: Vec<Warning>,
 }
 
-/// Current of one frame of a prop, amperes: `leds x channel x (r + g + b) / 255 + idle`.
+/// Current of one frame of a prop whose `leds` LEDs all show `bytes`,
+/// amperes: `leds x (r + g + b) / 255 x channel + idle`.
 pub fn frame_current_a(bytes: [u8; 3], leds: u32, channel_a: f64, idle_a: f64) -> f64 {
     let sum = u32::from(bytes[0]) + u32::from(bytes[1]) + u32::from(bytes[2]);
-    f64::from(leds) * channel_a * f64::from(sum) / 255.0 + idle_a
+    current_of_sum(u64::from(leds) * u64::from(sum), channel_a, idle_a)
+}
+
+/// Current of a frame whose LED bytes add up to `byte_sum` (every channel of
+/// every LED), amperes.
+fn current_of_sum(byte_sum: u64, channel_a: f64, idle_a: f64) -> f64 {
+    byte_sum as f64 / 255.0 * channel_a + idle_a
 }
 
 /// The brightness scale (0..=1) that keeps a prop's peak current within
@@ -154,48 +162,92 @@ struct Over {
     peak_a: f64,
 }
 
-/// Runs the flash and current checks over every frame of `lights`.
-pub fn scan(show: &Show, lights: &Lights) -> LightScan {
-    let rate = f64::from(show.frame_rate_hz);
-    let frames = show.frame_count();
-    let n = lights.props.len();
-    // A validated show has a frame rate of at least 1 Hz; a hand-built one
-    // with 0 Hz has no frames and gets no flash figures.
-    let Ok(fresh) = FlashAnalyser::new(rate) else {
-        return LightScan {
-            props: Vec::new(),
-            stage_flash: None,
-            warnings: Vec::new(),
-        };
-    };
-    let mut analysers: Vec<FlashAnalyser> = vec![fresh.clone(); n];
-    let mut stage = (n >= 2).then_some(fresh);
-    let mut peak = vec![(f64::NEG_INFINITY, 0u64); n];
-    let mut sum = vec![0.0f64; n];
-    let mut over: Vec<Vec<Over>> = vec![Vec::new(); n];
-    let merge_frames = (CURRENT_MERGE_S * rate).ceil() as u64;
-    for k in 0..frames {
+/// One prop's running figures.
+#[derive(Clone, Debug)]
+struct PropTally {
+    analyser: FlashAnalyser,
+    peak: (f64, u64),
+    sum: f64,
+    over: Vec<Over>,
+}
+
+/// The flash and current figures, gathered one frame at a time (so that the
+/// compile can gather them while it writes the tables).
+#[derive(Clone, Debug)]
+pub struct LightTally {
+    rate: f64,
+    merge_frames: u64,
+    props: Vec<PropTally>,
+    stage: Option<FlashAnalyser>,
+    /// Frames taken so far.
+    frames: u64,
+}
+
+impl LightTally {
+    /// An empty tally for the props of `show`; `None` for a show whose frame
+    /// rate is 0 (only a hand-built one: it has no frames).
+    pub fn new(show: &Show) -> Option<LightTally> {
+        let rate = f64::from(show.frame_rate_hz);
+        let fresh = FlashAnalyser::new(rate).ok()?;
+        let n = show.props.len();
+        Some(LightTally {
+            rate,
+            merge_frames: (CURRENT_MERGE_S * rate).ceil() as u64,
+            props: (0..n)
+                .map(|_| PropTally {
+                    analyser: fresh.clone(),
+                    peak: (f64::NEG_INFINITY, 0),
+                    sum: 0.0,
+                    over: Vec::new(),
+                })
+                .collect(),
+            stage: (n >= 2).then_some(fresh),
+            frames: 0,
+        })
+    }
+
+    /// Takes the next frame: `frames[i]` holds prop `i`'s LED bytes.
+    ///
+    /// A prop is one light source: the mean linear light of its LEDs (all of
+    /// them the same colour on a plain head). Its current is the sum over
+    /// every channel of every LED.
+    pub fn push(&mut self, show: &Show, frames: &[&[[u8; 3]]]) {
+        let k = self.frames;
+        self.frames += 1;
         let mut mean = [0.0f64; 3];
-        for (i, pl) in lights.props.iter().enumerate() {
-            let prop = &show.props[pl.prop];
-            let bytes = pl.bytes(show, k);
-            let light = flash::led_light(bytes);
-            analysers[i].push(light);
+        for ((t, prop), frame) in self.props.iter_mut().zip(&show.props).zip(frames) {
+            let mut sum = [0u64; 3];
+            for px in *frame {
+                for c in 0..3 {
+                    sum[c] += u64::from(px[c]);
+                }
+            }
+            let scale = 255.0 * frame.len().max(1) as f64;
+            let light = palette::LinSrgb::new(
+                sum[0] as f64 / scale,
+                sum[1] as f64 / scale,
+                sum[2] as f64 / scale,
+            );
+            t.analyser.push(light);
             mean[0] += light.red;
             mean[1] += light.green;
             mean[2] += light.blue;
-            let a = frame_current_a(bytes, pl.leds, prop.channel_current_a, prop.idle_current_a);
-            sum[i] += a;
-            if a > peak[i].0 {
-                peak[i] = (a, k);
+            let a = current_of_sum(
+                sum[0] + sum[1] + sum[2],
+                prop.channel_current_a,
+                prop.idle_current_a,
+            );
+            t.sum += a;
+            if a > t.peak.0 {
+                t.peak = (a, k);
             }
             if prop.max_current_a.is_some_and(|max| a > max) {
-                match over[i].last_mut() {
-                    Some(o) if k <= o.end + merge_frames => {
+                match t.over.last_mut() {
+                    Some(o) if k <= o.end + self.merge_frames => {
                         o.end = k + 1;
                         o.peak_a = o.peak_a.max(a);
                     }
-                    _ => over[i].push(Over {
+                    _ => t.over.push(Over {
                         first: k,
                         end: k + 1,
                         peak_a: a,
@@ -203,75 +255,113 @@ pub fn scan(show: &Show, lights: &Lights) -> LightScan {
                 }
             }
         }
-        if let Some(s) = stage.as_mut() {
-            let d = n as f64;
+        if let Some(s) = self.stage.as_mut() {
+            let d = self.props.len() as f64;
             s.push(palette::LinSrgb::new(mean[0] / d, mean[1] / d, mean[2] / d));
         }
     }
 
-    let when = |t: f64| When::at_beat(show, show.tempo.beat_at_time(t));
-    let mut warnings = Vec::new();
-    let mut props = Vec::with_capacity(n);
-    for (i, (pl, a)) in lights.props.iter().zip(analysers).enumerate() {
-        let prop = &show.props[pl.prop];
-        let report = a.finish();
-        flash_warnings(&report, &prop.name, &when, &mut warnings);
-        let idle = prop.idle_current_a;
-        let (peak_a, peak_k) = if frames == 0 { (idle, 0) } else { peak[i] };
-        let mean_a = if frames == 0 {
-            idle
-        } else {
-            sum[i] / frames as f64
-        };
-        if let Some(max) = prop.max_current_a {
-            for o in &over[i] {
-                let start = o.first as f64 / rate;
-                warnings.push(Warning {
-                    kind: WarningKind::Current,
-                    prop: prop.name.clone(),
-                    other_prop: None,
-                    at: when(start),
-                    duration_s: Some((o.end - o.first) as f64 / rate),
-                    value: Some(o.peak_a),
-                    limit: Some(max),
-                    unit: Some("A"),
-                    message: format!(
-                        "{} draws up to {:.3} A from its LEDs, more than its max_current_a of {:.3} A",
-                        prop.name, o.peak_a, max
-                    ),
-                });
+    /// The figures and warnings of every frame taken.
+    pub fn finish(self, show: &Show) -> LightScan {
+        let rate = self.rate;
+        let frames = self.frames;
+        let when = |t: f64| When::at_beat(show, show.tempo.beat_at_time(t));
+        let mut warnings = Vec::new();
+        let mut props = Vec::with_capacity(self.props.len());
+        for (t, prop) in self.props.into_iter().zip(&show.props) {
+            let report = t.analyser.finish();
+            flash_warnings(&report, &prop.name, &when, &mut warnings);
+            let idle = prop.idle_current_a;
+            let (peak_a, peak_k) = if frames == 0 { (idle, 0) } else { t.peak };
+            let mean_a = if frames == 0 {
+                idle
+            } else {
+                t.sum / frames as f64
+            };
+            if let Some(max) = prop.max_current_a {
+                for o in &t.over {
+                    let start = o.first as f64 / rate;
+                    warnings.push(Warning {
+                        kind: WarningKind::Current,
+                        prop: prop.name.clone(),
+                        other_prop: None,
+                        at: when(start),
+                        duration_s: Some((o.end - o.first) as f64 / rate),
+                        value: Some(o.peak_a),
+                        limit: Some(max),
+                        unit: Some("A"),
+                        message: format!(
+                            "{} draws up to {:.3} A from its LEDs, more than its max_current_a of {:.3} A",
+                            prop.name, o.peak_a, max
+                        ),
+                    });
+                }
             }
+            props.push(PropLightFigures {
+                flash: FlashFigures::of(&report),
+                peak_current_a: peak_a,
+                peak_current_at: (frames > 0).then(|| when(peak_k as f64 / rate)),
+                mean_current_a: mean_a,
+                battery_hours: prop
+                    .battery_mah
+                    .filter(|_| mean_a > 0.0)
+                    .map(|mah| mah / 1000.0 / mean_a),
+                brightness_scale: match (prop.brightness_limit, prop.max_current_a) {
+                    (true, Some(max)) => Some(brightness_scale(
+                        peak_a,
+                        max,
+                        prop.leds,
+                        prop.channel_current_a,
+                        idle,
+                    )),
+                    _ => None,
+                },
+            });
         }
-        props.push(PropLightFigures {
-            flash: FlashFigures::of(&report),
-            peak_current_a: peak_a,
-            peak_current_at: (frames > 0).then(|| when(peak_k as f64 / rate)),
-            mean_current_a: mean_a,
-            battery_hours: prop
-                .battery_mah
-                .filter(|_| mean_a > 0.0)
-                .map(|mah| mah / 1000.0 / mean_a),
-            brightness_scale: match (prop.brightness_limit, prop.max_current_a) {
-                (true, Some(max)) => Some(brightness_scale(
-                    peak_a,
-                    max,
-                    pl.leds,
-                    prop.channel_current_a,
-                    idle,
-                )),
-                _ => None,
-            },
+        let stage_flash = self.stage.map(|s| {
+            let report = s.finish();
+            flash_warnings(&report, STAGE, &when, &mut warnings);
+            FlashFigures::of(&report)
         });
+        LightScan {
+            props,
+            stage_flash,
+            warnings,
+        }
     }
-    let stage_flash = stage.map(|s| {
-        let report = s.finish();
-        flash_warnings(&report, STAGE, &when, &mut warnings);
-        FlashFigures::of(&report)
-    });
-    LightScan {
-        props,
-        stage_flash,
-        warnings,
+}
+
+/// Runs the flash and current checks over every frame of `lights`.
+pub fn scan(show: &Show, lights: &Lights) -> LightScan {
+    let Some(mut tally) = LightTally::new(show) else {
+        return LightScan {
+            props: Vec::new(),
+            stage_flash: None,
+            warnings: Vec::new(),
+        };
+    };
+    let result: Result<(), std::convert::Infallible> =
+        cues::for_each_block(show, lights, show.frame_count(), |_, n, blocks| {
+            tally.push_block(show, lights, n, blocks);
+            Ok(())
+        });
+    let Ok(()) = result;
+    tally.finish(show)
+}
+
+impl LightTally {
+    /// Takes `n` frames at once: `blocks[i]` holds them for prop `i`, one
+    /// after the other (as [`cues::for_each_block`] hands them over).
+    pub fn push_block(&mut self, show: &Show, lights: &Lights, n: usize, blocks: &[Vec<[u8; 3]>]) {
+        let mut frame: Vec<&[[u8; 3]]> = Vec::with_capacity(blocks.len());
+        for j in 0..n {
+            frame.clear();
+            for (b, pl) in blocks.iter().zip(&lights.props) {
+                let leds = pl.leds as usize;
+                frame.push(&b[j * leds..(j + 1) * leds]);
+            }
+            self.push(show, &frame);
+        }
     }
 }
 

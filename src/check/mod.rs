@@ -31,10 +31,13 @@ pub mod tension;
 
 pub use report::{CheckReport, PairFigures, PropFigures, Warning, WarningKind, When};
 
+use rayon::prelude::*;
+
 use crate::cues::{self, Lights};
 use crate::events;
 use crate::model::Show;
 use crate::motion::{PropMotion, simulate};
+use crate::output::FrameWriter;
 
 /// The limits and search density the checks use.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -116,6 +119,19 @@ pub fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSetti
     total
 }
 
+/// Refuses a show whose checks would need more than [`MAX_SAMPLES`] samples.
+pub fn within_budget(
+    show: &Show,
+    motions: &[PropMotion],
+    settings: &CheckSettings,
+) -> Result<(), CheckError> {
+    let samples = samples_needed(show, motions, settings);
+    if samples.is_nan() || samples > MAX_SAMPLES {
+        return Err(CheckError::TooMuchWork { samples });
+    }
+    Ok(())
+}
+
 /// Checks `show` with the default settings: physics, light and landing.
 pub fn check_show(show: &Show) -> Result<CheckReport, CheckError> {
     check(show, &simulate(show), &CheckSettings::default())
@@ -129,13 +145,69 @@ pub fn check(
     settings: &CheckSettings,
 ) -> Result<CheckReport, CheckError> {
     // Refuse too much work before finding events and placing cues.
-    let samples = samples_needed(show, motions, settings);
-    if samples.is_nan() || samples > MAX_SAMPLES {
-        return Err(CheckError::TooMuchWork { samples });
-    }
+    within_budget(show, motions, settings)?;
     let found = events::find_events(show, motions);
     let lights = cues::place(show, motions, &found);
     check_with_lights(show, motions, &lights, settings)
+}
+
+/// What the checks read off the frame tables.
+#[derive(Clone, Debug)]
+pub struct FrameFigures {
+    /// Flash, current and battery figures.
+    pub light: light::LightScan,
+    /// Size of each prop's compact table, bytes, in prop order (`None`
+    /// where it could not be encoded).
+    pub compact_table_bytes: Vec<Option<u64>>,
+}
+
+/// One pass over every frame of every prop in `lights`: the light figures
+/// and the size of each compact table.
+pub fn frame_figures(show: &Show, lights: &Lights) -> FrameFigures {
+    let mut tally = light::LightTally::new(show);
+    let mut counters: Vec<_> = (0..show.props.len())
+        .map(|i| hardware::compact_counter(show, i))
+        .collect();
+    let result: Result<(), std::convert::Infallible> =
+        cues::for_each_block(show, lights, show.frame_count(), |_, n, blocks| {
+            rayon::join(
+                || {
+                    if let Some(t) = tally.as_mut() {
+                        t.push_block(show, lights, n, blocks);
+                    }
+                },
+                || {
+                    counters
+                        .par_iter_mut()
+                        .zip(blocks)
+                        .zip(&lights.props)
+                        .for_each(|((c, block), pl)| {
+                            let leds = pl.leds as usize;
+                            for frame in block[..n * leds].chunks(leds) {
+                                if c.as_mut().is_some_and(|w| w.push_frame(frame).is_err()) {
+                                    *c = None;
+                                }
+                            }
+                        });
+                },
+            );
+            Ok(())
+        });
+    let Ok(()) = result;
+    FrameFigures {
+        light: tally.map_or_else(
+            || light::LightScan {
+                props: Vec::new(),
+                stage_flash: None,
+                warnings: Vec::new(),
+            },
+            |t| t.finish(show),
+        ),
+        compact_table_bytes: counters
+            .into_iter()
+            .map(|c| c.and_then(|w| w.finish().ok()).map(|s| s.bytes_written))
+            .collect(),
+    }
 }
 
 /// Checks `show`, whose motion is `motions` and whose cues are placed as
@@ -147,10 +219,21 @@ pub fn check_with_lights(
     lights: &Lights,
     settings: &CheckSettings,
 ) -> Result<CheckReport, CheckError> {
-    let samples = samples_needed(show, motions, settings);
-    if samples.is_nan() || samples > MAX_SAMPLES {
-        return Err(CheckError::TooMuchWork { samples });
-    }
+    within_budget(show, motions, settings)?;
+    let frames = frame_figures(show, lights);
+    check_with_frames(show, motions, lights, frames, settings)
+}
+
+/// Like [`check_with_lights`], with the figures of the frames already read
+/// (the compile gathers them while it writes the tables).
+pub fn check_with_frames(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    frames: FrameFigures,
+    settings: &CheckSettings,
+) -> Result<CheckReport, CheckError> {
+    within_budget(show, motions, settings)?;
     let centre = reach::centre_line(show);
     let scans: Vec<prop::PropScan> = motions
         .iter()
@@ -177,7 +260,7 @@ pub fn check_with_lights(
     for m in motions {
         warnings.extend(jumps::jumps(show, m, settings.jump_limit_m));
     }
-    let light_scan = light::scan(show, lights);
+    let light_scan = frames.light;
     for (pl, figures) in lights.props.iter().zip(&light_scan.props) {
         let name = &show.props[pl.prop].name;
         if let Some(p) = props.iter_mut().find(|p| &p.name == name) {
@@ -185,7 +268,12 @@ pub fn check_with_lights(
         }
     }
     warnings.extend(light_scan.warnings);
-    let (hardware, hardware_warnings) = hardware::scan(show, lights, settings.tolerance_mm);
+    let (hardware, hardware_warnings) = hardware::scan(
+        show,
+        lights,
+        &frames.compact_table_bytes,
+        settings.tolerance_mm,
+    );
     for (prop, h) in show.props.iter().zip(hardware) {
         if let Some(p) = props.iter_mut().find(|p| p.name == prop.name) {
             p.hardware = Some(h);

@@ -85,7 +85,7 @@ pub fn run(
             w.error_ms,
             w.error_deg,
             w.cue,
-            cue.at.name(),
+            cue.at_name(),
             show.props[w.prop].name
         )
         .map_err(io)?;

@@ -9,10 +9,11 @@
 //! Oklab from the colour shown at the event to the new one.
 
 use palette::{FromColor, LinSrgb, Mix, Oklab, Srgb};
+use rayon::prelude::*;
 
 use crate::colour;
 use crate::events::Event;
-use crate::model::{EventKind, Show};
+use crate::model::{Along, EventKind, FixedTo, LedSpot, Look, Painting, Show};
 use crate::motion::PropMotion;
 use crate::num;
 
@@ -42,8 +43,77 @@ pub struct Change {
     pub beat: f64,
     /// Index into the cue's colours.
     pub colour: usize,
-    /// The colour shown just before (the start of a crossfade), Oklab.
-    from: Oklab<f64>,
+    /// What was shown just before, at the grip end and the far end of each
+    /// strip (the start of a crossfade), Oklab.
+    from: [Oklab<f64>; 2],
+    /// The colour index of the change before (a chase's crossfade starts
+    /// from the bands it showed).
+    before: usize,
+}
+
+/// The stepped colours of a cue, ready to put on frames.
+#[derive(Clone, Debug)]
+struct Palette {
+    fade_beats: f64,
+    along: Along,
+    /// Global beat where the cue starts (a chase's bands start there).
+    start_beat: f64,
+    colours: Vec<Oklab<f64>>,
+    linear: Vec<LinSrgb<f64>>,
+}
+
+impl Palette {
+    /// The colour after `c` in the cycle.
+    fn next(&self, c: usize) -> usize {
+        (c + 1) % self.colours.len()
+    }
+
+    /// The colours a change to colour `c` settles on, at the grip end and
+    /// the far end of each strip.
+    fn target(&self, c: usize) -> [Oklab<f64>; 2] {
+        match self.along {
+            Along::Gradient => [self.colours[c], self.colours[self.next(c)]],
+            _ => [self.colours[c]; 2],
+        }
+    }
+
+    /// The fraction of a crossfade done at `beat`, for a change at `from_beat`.
+    fn fade_fraction(&self, from_beat: f64, beat: f64) -> f64 {
+        if self.fade_beats > 0.0 {
+            ((beat - from_beat) / self.fade_beats).max(0.0)
+        } else {
+            1.0
+        }
+    }
+
+    /// The chase band an LED at place `index` of its strip is in at `beat`.
+    fn band(&self, index: u32, beat: f64) -> i64 {
+        match self.along {
+            Along::Chase {
+                leds_per_beat,
+                width_leds,
+            } => {
+                let x = f64::from(index) - leds_per_beat * (beat - self.start_beat);
+                (x / width_leds).floor() as i64
+            }
+            _ => 0,
+        }
+    }
+
+    /// Colour index `c` moved on by `band` bands, cycling.
+    fn shift(&self, c: usize, band: i64) -> usize {
+        let n = self.colours.len() as i64;
+        (c as i64 + band).rem_euclid(n) as usize
+    }
+}
+
+/// What a track shows.
+#[derive(Clone, Debug)]
+enum Drawn {
+    /// Stepped colours.
+    Steps(Palette),
+    /// A painted picture.
+    Image(Painting),
 }
 
 /// A cue placed on frames: its frame range and its changes.
@@ -57,48 +127,56 @@ pub struct CueTrack {
     pub end_frame: u64,
     /// The cue's start (colour 0) and every event-driven change, in order.
     pub changes: Vec<Change>,
-    fade_beats: f64,
-    colours: Vec<Oklab<f64>>,
-    linear: Vec<LinSrgb<f64>>,
+    look: Drawn,
+}
+
+/// Linear light of an Oklab colour, clamped to the LEDs' gamut (0..1).
+fn clamped_linear(c: Oklab<f64>) -> LinSrgb<f64> {
+    let lin = LinSrgb::from_color(c);
+    LinSrgb::new(
+        lin.red.clamp(0.0, 1.0),
+        lin.green.clamp(0.0, 1.0),
+        lin.blue.clamp(0.0, 1.0),
+    )
 }
 
 impl CueTrack {
-    /// The colour at global beat `beat` after change `i`, in Oklab.
-    fn oklab_after(&self, i: usize, beat: f64) -> Oklab<f64> {
+    /// The colours at global beat `beat` after change `i`, Oklab, at the
+    /// grip end and the far end of each strip.
+    fn ends_after(&self, p: &Palette, i: usize, beat: f64) -> [Oklab<f64>; 2] {
         let c = &self.changes[i];
-        let to = self.colours[c.colour];
-        let frac = if self.fade_beats > 0.0 {
-            (beat - c.beat) / self.fade_beats
-        } else {
-            1.0
-        };
+        let to = p.target(c.colour);
+        let frac = p.fade_fraction(c.beat, beat);
         if frac >= 1.0 {
             to
         } else {
-            c.from.mix(to, frac.max(0.0))
+            [c.from[0].mix(to[0], frac), c.from[1].mix(to[1], frac)]
         }
     }
 
-    /// Linear-light colour of frame `k` (which must be in the track's range),
-    /// whose midpoint is at global beat `mid_beat`.
-    pub fn colour_at(&self, k: u64, mid_beat: f64) -> LinSrgb<f64> {
-        let i = self
-            .changes
+    /// Index of the change frame `k` shows.
+    fn change_at(&self, k: u64) -> usize {
+        self.changes
             .partition_point(|c| c.frame <= k)
-            .saturating_sub(1);
+            .saturating_sub(1)
+    }
+
+    /// True while change `i` is still fading in at `beat`.
+    fn fading(&self, p: &Palette, i: usize, beat: f64) -> bool {
         let c = &self.changes[i];
-        let faded = self.fade_beats > 0.0
-            && mid_beat < c.beat + self.fade_beats
-            && c.from != self.colours[c.colour];
-        if faded {
-            let lin = LinSrgb::from_color(self.oklab_after(i, mid_beat));
-            LinSrgb::new(
-                lin.red.clamp(0.0, 1.0),
-                lin.green.clamp(0.0, 1.0),
-                lin.blue.clamp(0.0, 1.0),
-            )
+        p.fade_beats > 0.0 && beat < c.beat + p.fade_beats
+    }
+
+    /// Linear-light colour, for every LED, of frame `k` of a solid cue
+    /// (which must be in the track's range), whose midpoint is at global
+    /// beat `mid_beat`.
+    fn solid(&self, p: &Palette, k: u64, mid_beat: f64) -> LinSrgb<f64> {
+        let i = self.change_at(k);
+        let c = &self.changes[i];
+        if self.fading(p, i, mid_beat) && c.from[0] != p.colours[c.colour] {
+            clamped_linear(self.ends_after(p, i, mid_beat)[0])
         } else {
-            self.linear[c.colour]
+            p.linear[c.colour]
         }
     }
 }
@@ -124,43 +202,125 @@ pub struct Landing {
     pub speed_m_s: f64,
 }
 
-/// The colours of one prop, frame by frame.
+/// The colours of one prop's LEDs, frame by frame.
 #[derive(Clone, Debug)]
 pub struct PropLights {
     /// Index into [`Show::props`].
     pub prop: usize,
-    /// LEDs on the prop (all show the cue's colour).
+    /// LEDs on the prop.
     pub leds: u32,
     /// Scale on linear values, 0..=1.
     pub brightness: f64,
     /// The prop's cues in file order (later wins).
     pub tracks: Vec<CueTrack>,
+    /// Where each LED sits (table order).
+    spots: Vec<LedSpot>,
+    /// The prop's motion: where each LED is, for paintings.
+    motion: PropMotion,
 }
 
 impl PropLights {
-    /// Linear-light colour of frame `k`, or `None` where no cue covers it.
-    pub fn colour(&self, show: &Show, k: u64) -> Option<LinSrgb<f64>> {
-        let track = self
-            .tracks
-            .iter()
-            .rev()
-            .find(|t| t.first_frame <= k && k < t.end_frame)?;
-        let mid = (k as f64 + 0.5) / f64::from(show.frame_rate_hz);
-        Some(track.colour_at(k, show.tempo.beat_at_time(mid)))
+    /// Where each LED sits, in table order.
+    pub fn spots(&self) -> &[LedSpot] {
+        &self.spots
     }
 
-    /// The LED bytes (linear light x brightness) of frame `k`, one RGB
-    /// triple for the whole head.
-    pub fn bytes(&self, show: &Show, k: u64) -> [u8; 3] {
-        match self.colour(show, k) {
-            Some(c) => colour::led_bytes(c, self.brightness),
-            None => [0, 0, 0],
+    /// True when every LED shows the same colour on every frame (no cue
+    /// spreads its colours or paints).
+    pub fn is_uniform(&self) -> bool {
+        self.tracks
+            .iter()
+            .all(|t| matches!(&t.look, Drawn::Steps(p) if p.along == Along::Solid))
+    }
+
+    /// The track that decides frame `k`, if any.
+    fn track_at(&self, k: u64) -> Option<&CueTrack> {
+        self.tracks
+            .iter()
+            .rev()
+            .find(|t| t.first_frame <= k && k < t.end_frame)
+    }
+
+    /// Fills `out` (one R, G, B triple per LED, table order) with the LED
+    /// bytes of frame `k`: linear light times the prop's brightness.
+    pub fn fill_frame(&self, show: &Show, k: u64, out: &mut [[u8; 3]]) {
+        let Some(track) = self.track_at(k) else {
+            out.fill([0, 0, 0]);
+            return;
+        };
+        let mid = (k as f64 + 0.5) / f64::from(show.frame_rate_hz);
+        let beat = show.tempo.beat_at_time(mid);
+        let b = self.brightness;
+        match &track.look {
+            Drawn::Steps(p) => match p.along {
+                Along::Solid => out.fill(colour::led_bytes(track.solid(p, k, beat), b)),
+                Along::Gradient => {
+                    let i = track.change_at(k);
+                    let c = &track.changes[i];
+                    let fading = track.fading(p, i, beat);
+                    let ends = track.ends_after(p, i, beat);
+                    let settled = [p.linear[c.colour], p.linear[p.next(c.colour)]];
+                    for (o, spot) in out.iter_mut().zip(&self.spots) {
+                        let f = spot.fraction();
+                        let lin = match (fading, f) {
+                            (false, 0.0) => settled[0],
+                            (false, 1.0) => settled[1],
+                            _ => clamped_linear(ends[0].mix(ends[1], f)),
+                        };
+                        *o = colour::led_bytes(lin, b);
+                    }
+                }
+                Along::Chase { .. } => {
+                    let i = track.change_at(k);
+                    let c = &track.changes[i];
+                    let fading = track.fading(p, i, beat);
+                    let frac = p.fade_fraction(c.beat, beat);
+                    for (o, spot) in out.iter_mut().zip(&self.spots) {
+                        let band = p.band(spot.index, beat);
+                        let now = p.shift(c.colour, band);
+                        let was = p.shift(c.before, band);
+                        let lin = if fading && was != now {
+                            clamped_linear(p.colours[was].mix(p.colours[now], frac))
+                        } else {
+                            p.linear[now]
+                        };
+                        *o = colour::led_bytes(lin, b);
+                    }
+                }
+            },
+            Drawn::Image(painting) => self.paint(painting, show, beat, out),
         }
     }
 
-    /// Fills `out` (one triple per LED) with the bytes of frame `k`.
-    pub fn fill_frame(&self, show: &Show, k: u64, out: &mut [[u8; 3]]) {
-        out.fill(self.bytes(show, k));
+    /// Each LED's colour from `painting` where it is at global beat `beat`
+    /// (dark while the prop rests: it is in no plane).
+    fn paint(&self, painting: &Painting, show: &Show, beat: f64, out: &mut [[u8; 3]]) {
+        let _ = show;
+        let Some(i) = self.motion.span_at_beat(beat) else {
+            out.fill([0, 0, 0]);
+            return;
+        };
+        let span = &self.motion.spans[i];
+        let s = beat - span.start_beat;
+        let hand = span.hand_jet(s).p;
+        let dir = span.direction(s);
+        let turn = match painting.placement.fixed_to {
+            FixedTo::Stage => 0.0,
+            FixedTo::Hand => {
+                let sense = if span.mirror { -1.0 } else { 1.0 };
+                360.0 * span.phase(s) * sense
+            }
+        };
+        let pic = &painting.picture;
+        let map = painting.placement.to_pixel(pic, turn);
+        for (o, spot) in out.iter_mut().zip(&self.spots) {
+            let a = spot.along_m;
+            let p = [hand[0] + a * dir[0], hand[1] + a * dir[1]];
+            let [x, y] = map.apply(span.unmirrored(p));
+            let t = pic.sample(x, y);
+            let lin = LinSrgb::new(f64::from(t[0]), f64::from(t[1]), f64::from(t[2]));
+            *o = colour::led_bytes(lin, self.brightness);
+        }
     }
 }
 
@@ -186,62 +346,129 @@ pub fn place(show: &Show, motions: &[PropMotion], events: &[Event]) -> Lights {
             leds: p.leds,
             brightness: p.brightness,
             tracks: Vec::new(),
+            spots: p.led_spots(),
+            motion: motions[i].clone(),
         })
         .collect();
     let mut landings = Vec::new();
     for (ci, cue) in show.cues.iter().enumerate() {
         let start = show.tempo.beat_of_bar(cue.first_bar);
         let end = show.tempo.beat_of_bar(cue.last_bar + 1);
-        let colours: Vec<Oklab<f64>> = cue
-            .colours
-            .iter()
-            .map(|c| Oklab::from_color(colour::to_linear(Srgb::new(c[0], c[1], c[2]))))
-            .collect();
-        let linear: Vec<LinSrgb<f64>> = cue
-            .colours
-            .iter()
-            .map(|c| colour::to_linear(Srgb::new(c[0], c[1], c[2])))
-            .collect();
         let t0 = show.tempo.time_at_beat(start);
+        let first = Change {
+            frame: frame_of(t0, rate),
+            time_s: t0,
+            beat: start,
+            colour: 0,
+            from: [Oklab::new(0.0, 0.0, 0.0); 2],
+            before: 0,
+        };
         let mut track = CueTrack {
             cue: ci,
             first_frame: frame_of(t0, rate),
             end_frame: frame_of(show.tempo.time_at_beat(end), rate),
-            changes: vec![Change {
-                frame: frame_of(t0, rate),
-                time_s: t0,
-                beat: start,
-                colour: 0,
-                from: colours[0],
-            }],
-            fade_beats: cue.fade_beats,
-            colours,
-            linear,
+            changes: vec![first],
+            look: match &cue.look {
+                Look::Image(p) => Drawn::Image(p.clone()),
+                Look::Steps(st) => Drawn::Steps(Palette {
+                    fade_beats: st.fade_beats,
+                    along: st.along,
+                    start_beat: start,
+                    colours: st
+                        .colours
+                        .iter()
+                        .map(|c| Oklab::from_color(colour::to_linear(Srgb::new(c[0], c[1], c[2]))))
+                        .collect(),
+                    linear: st
+                        .colours
+                        .iter()
+                        .map(|c| colour::to_linear(Srgb::new(c[0], c[1], c[2])))
+                        .collect(),
+                }),
+            },
         };
-        let hits = events.iter().filter(|e| {
-            e.prop == cue.prop
-                && e.kind == cue.at
-                && e.beat > start
-                && e.beat < end
-                && (cue.at != EventKind::Angle || e.angle_deg == cue.angle_deg)
-        });
-        for e in hits {
-            let last = track.changes.len() - 1;
-            let from = track.oklab_after(last, e.beat);
-            let next = (track.changes[last].colour + 1) % cue.colours.len();
-            let frame = frame_of(e.time_s, rate);
-            track.changes.push(Change {
-                frame,
-                time_s: e.time_s,
-                beat: e.beat,
-                colour: next,
-                from,
+        if let (Drawn::Steps(p), Some(st)) = (&track.look, cue.steps()) {
+            let p = p.clone();
+            track.changes[0].from = p.target(0);
+            let hits = events.iter().filter(|e| {
+                e.prop == cue.prop
+                    && e.kind == st.at
+                    && e.beat > start
+                    && e.beat < end
+                    && (st.at != EventKind::Angle || e.angle_deg == st.angle_deg)
             });
-            landings.push(landing(show, &motions[cue.prop], ci, e, frame));
+            for e in hits {
+                let last = track.changes.len() - 1;
+                let from = track.ends_after(&p, last, e.beat);
+                let before = track.changes[last].colour;
+                let frame = frame_of(e.time_s, rate);
+                track.changes.push(Change {
+                    frame,
+                    time_s: e.time_s,
+                    beat: e.beat,
+                    colour: p.next(before),
+                    from,
+                    before,
+                });
+                landings.push(landing(show, &motions[cue.prop], ci, e, frame));
+            }
         }
         props[cue.prop].tracks.push(track);
     }
     Lights { props, landings }
+}
+
+/// Frames of every prop computed at a time by [`for_each_block`].
+pub const BLOCK_FRAMES: u64 = 1024;
+
+/// The LED bytes of frames `k0 .. k0 + n` of every prop: `out[p]` holds
+/// them one frame after the other (`leds` triples each), computed in parallel.
+fn fill_block(show: &Show, lights: &Lights, k0: u64, n: usize, out: &mut [Vec<[u8; 3]>]) {
+    out.par_iter_mut().zip(&lights.props).for_each(|(buf, pl)| {
+        let leds = pl.leds as usize;
+        buf.resize(n * leds, [0, 0, 0]);
+        buf.par_chunks_mut(leds)
+            .with_min_len(16)
+            .enumerate()
+            .for_each(|(j, frame)| pl.fill_frame(show, k0 + j as u64, frame));
+    });
+}
+
+/// Computes frames `0 .. frames` of every prop in blocks of
+/// [`BLOCK_FRAMES`] and hands each block, in order, to `f(k0, n, blocks)`:
+/// `blocks[p]` holds frames `k0 .. k0 + n` of prop `p`, one after the other.
+/// The next block is computed while `f` works on the current one. Stops at
+/// the first error `f` returns.
+pub fn for_each_block<E: Send>(
+    show: &Show,
+    lights: &Lights,
+    frames: u64,
+    mut f: impl FnMut(u64, usize, &[Vec<[u8; 3]>]) -> Result<(), E> + Send,
+) -> Result<(), E> {
+    let props = lights.props.len();
+    let count = |k0: u64| BLOCK_FRAMES.min(frames - k0) as usize;
+    let mut cur: Vec<Vec<[u8; 3]>> = vec![Vec::new(); props];
+    let mut next: Vec<Vec<[u8; 3]>> = vec![Vec::new(); props];
+    if frames == 0 {
+        return Ok(());
+    }
+    fill_block(show, lights, 0, count(0), &mut cur);
+    let mut k0 = 0;
+    while k0 < frames {
+        let k1 = k0 + count(k0) as u64;
+        let (_, done) = rayon::join(
+            || {
+                if k1 < frames {
+                    fill_block(show, lights, k1, count(k1), &mut next);
+                }
+            },
+            || f(k0, count(k0), &cur),
+        );
+        done?;
+        std::mem::swap(&mut cur, &mut next);
+        k0 = k1;
+    }
+    Ok(())
 }
 
 /// How far off a change for event `e` lands when it starts on `frame`.

@@ -92,8 +92,10 @@ pub fn cue_angles(show: &Show, prop: usize) -> Vec<f64> {
     let mut angles: Vec<f64> = show
         .cues
         .iter()
-        .filter(|c| c.prop == prop && c.at == EventKind::Angle)
-        .filter_map(|c| c.angle_deg)
+        .filter(|c| c.prop == prop)
+        .filter_map(|c| c.steps())
+        .filter(|s| s.at == EventKind::Angle)
+        .filter_map(|s| s.angle_deg)
         .collect();
     angles.sort_by(f64::total_cmp);
     angles.dedup();

@@ -10,6 +10,7 @@ use nalgebra::Vector3;
 
 use crate::diag::Source;
 use crate::motion::TempoMap;
+pub use crate::picture::{FixedTo, Picture, PicturePlacement};
 
 /// A whole show, ready to simulate.
 #[derive(Clone, Debug)]
@@ -37,6 +38,9 @@ pub struct Show {
 pub enum PropKind {
     /// A head on a flexible tether, held at the handle.
     Poi,
+    /// A rigid rod held at a grip, turning as a whole: its head end traces
+    /// the pattern's head path and its tail end the point opposite.
+    Staff,
 }
 
 impl PropKind {
@@ -44,24 +48,93 @@ impl PropKind {
     pub fn name(self) -> &'static str {
         match self {
             PropKind::Poi => "poi",
+            PropKind::Staff => "staff",
         }
     }
 }
 
-/// One prop: a head on a tether, swung from a hand.
+/// Which half of a prop, from the grip: toward the head end (the poi's
+/// head, the staff end that traces the pattern) or toward the tail end
+/// (a staff's other end).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum End {
+    /// From the grip toward the head end.
+    Head,
+    /// From the grip toward the tail end (staffs only).
+    Tail,
+}
+
+impl End {
+    /// +1 for the head half, -1 for the tail half: the sign of distances
+    /// along the prop's direction (grip to head end).
+    pub fn sign(self) -> f64 {
+        match self {
+            End::Head => 1.0,
+            End::Tail => -1.0,
+        }
+    }
+}
+
+/// LEDs evenly spaced along one half of a prop, numbered from the grip out.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Strip {
+    /// The half it runs along.
+    pub end: End,
+    /// Number of LEDs, at least 1.
+    pub leds: u32,
+    /// Distance of the LED nearest the grip from the grip, metres.
+    pub from_m: f64,
+    /// Distance of the LED furthest from the grip, metres (`>= from_m`).
+    pub to_m: f64,
+}
+
+/// Where one LED sits on its prop, and its place in its strip.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct LedSpot {
+    /// Signed distance from the grip along the prop's direction (grip to
+    /// head end), metres: positive on the head half, negative on the tail half.
+    pub along_m: f64,
+    /// Index of its strip in [`Prop::strips`].
+    pub strip: usize,
+    /// Its place in the strip, 0 nearest the grip.
+    pub index: u32,
+    /// LEDs in the strip.
+    pub count: u32,
+}
+
+impl LedSpot {
+    /// Its place in the strip as a fraction: 0 for the LED nearest the grip,
+    /// 1 for the furthest (0 in a strip of one).
+    pub fn fraction(&self) -> f64 {
+        if self.count > 1 {
+            f64::from(self.index) / f64::from(self.count - 1)
+        } else {
+            0.0
+        }
+    }
+}
+
+/// One prop: a head on a tether (poi) or a rod (staff), turned by a hand.
 #[derive(Clone, Debug)]
 pub struct Prop {
     /// Its name, the key of its `[prop.NAME]` table.
     pub name: String,
-    /// Poi (for now).
+    /// Poi or staff.
     pub kind: PropKind,
-    /// Handle to head centre, metres.
+    /// Grip (handle) to the head end's centre, metres: the poi's tether, or
+    /// the staff's head half.
     pub tether_m: f64,
+    /// Grip to the tail end, metres: the staff's other half (0 for a poi).
+    pub tail_m: f64,
     /// Centre of the hand's path, stage coordinates, metres.
     pub anchor_m: Vector3<f64>,
-    /// Number of LEDs in the head.
+    /// Number of LEDs on the prop, all strips together.
     pub leds: u32,
-    /// Mass of the head, kilograms (physics checks).
+    /// The LEDs, strip by strip in table order (never empty). A poi without
+    /// a strip has one strip of its `leds` at the head; a staff without one
+    /// has `leds` at each end.
+    pub strips: Vec<Strip>,
+    /// Mass of the head (for a staff, of each end), kilograms (physics checks).
     pub head_mass_kg: f64,
     /// Radius of the head, metres (collision checks; default 0.05).
     pub head_radius_m: f64,
@@ -94,6 +167,43 @@ pub struct Prop {
     pub table_memory_kb: Option<f64>,
     /// Tolerance of the prop's clock, parts per million.
     pub clock_ppm: f64,
+}
+
+impl Prop {
+    /// Every LED's place, in table order (LED 0 first).
+    pub fn led_spots(&self) -> Vec<LedSpot> {
+        let mut out = Vec::with_capacity(self.leds as usize);
+        for (si, s) in self.strips.iter().enumerate() {
+            for i in 0..s.leds {
+                let f = if s.leds > 1 {
+                    f64::from(i) / f64::from(s.leds - 1)
+                } else {
+                    0.5
+                };
+                let d = if s.leds > 1 {
+                    s.from_m + (s.to_m - s.from_m) * f
+                } else {
+                    0.5 * (s.from_m + s.to_m)
+                };
+                out.push(LedSpot {
+                    along_m: s.end.sign() * d,
+                    strip: si,
+                    index: i,
+                    count: s.leds,
+                });
+            }
+        }
+        out
+    }
+
+    /// The signed distances of the prop's ends from the grip along its
+    /// direction, metres: the head end first, then a staff's tail end.
+    pub fn ends_m(&self) -> Vec<f64> {
+        match self.kind {
+            PropKind::Poi => vec![self.tether_m],
+            PropKind::Staff => vec![self.tether_m, -self.tail_m],
+        }
+    }
 }
 
 /// The family of LED driver on a prop's data line.
@@ -244,15 +354,27 @@ impl EventKind {
     }
 }
 
-/// A colour cue: colours that step on every event of one kind.
+/// How a cue's colours spread over a prop's LEDs.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Along {
+    /// Every LED shows the cue's current colour.
+    Solid,
+    /// Each strip runs from the current colour (at the LED nearest the grip)
+    /// to the next colour of the cycle (at its far LED), mixed in Oklab.
+    Gradient,
+    /// Bands of the colours, `width_leds` LEDs each, in cycle order from the
+    /// current colour, moving along each strip.
+    Chase {
+        /// Speed of the bands, LEDs per beat: positive away from the grip.
+        leds_per_beat: f64,
+        /// Width of one band, LEDs (more than 0).
+        width_leds: f64,
+    },
+}
+
+/// Colours that step on every event of one kind.
 #[derive(Clone, Debug)]
-pub struct Cue {
-    /// Index into [`Show::props`].
-    pub prop: usize,
-    /// First bar, inclusive.
-    pub first_bar: u32,
-    /// Last bar, inclusive.
-    pub last_bar: u32,
+pub struct Steps {
     /// The event kind that moves it to the next colour.
     pub at: EventKind,
     /// With `at = angle`: the clock angle, degrees in [0, 360).
@@ -261,6 +383,68 @@ pub struct Cue {
     pub colours: Vec<[u8; 3]>,
     /// Crossfade length in beats (0 is a hard cut).
     pub fade_beats: f64,
+    /// How the colours spread over the LEDs.
+    pub along: Along,
+}
+
+/// A picture painted by a prop's LEDs: each LED, on each frame, shows the
+/// picture's colour where it is in the plane.
+#[derive(Clone, Debug)]
+pub struct Painting {
+    /// The file as the show names it.
+    pub file: String,
+    /// The decoded picture.
+    pub picture: Arc<Picture>,
+    /// Where it is placed in the plane, and whether it turns with the hand.
+    pub placement: PicturePlacement,
+}
+
+/// What a cue shows.
+#[derive(Clone, Debug)]
+pub enum Look {
+    /// Colours stepped by events.
+    Steps(Steps),
+    /// A painted picture.
+    Image(Painting),
+}
+
+/// A colour cue on one prop over a range of bars.
+#[derive(Clone, Debug)]
+pub struct Cue {
+    /// Index into [`Show::props`].
+    pub prop: usize,
+    /// First bar, inclusive.
+    pub first_bar: u32,
+    /// Last bar, inclusive.
+    pub last_bar: u32,
+    /// What it shows.
+    pub look: Look,
+}
+
+impl Cue {
+    /// Its event-stepped colours, unless it paints a picture.
+    pub fn steps(&self) -> Option<&Steps> {
+        match &self.look {
+            Look::Steps(s) => Some(s),
+            Look::Image(_) => None,
+        }
+    }
+
+    /// Its picture, if it paints one.
+    pub fn painting(&self) -> Option<&Painting> {
+        match &self.look {
+            Look::Image(p) => Some(p),
+            Look::Steps(_) => None,
+        }
+    }
+
+    /// What drives it, for reports: the event kind's name, or `image`.
+    pub fn at_name(&self) -> &'static str {
+        match &self.look {
+            Look::Steps(s) => s.at.name(),
+            Look::Image(_) => "image",
+        }
+    }
 }
 
 impl Show {

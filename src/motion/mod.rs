@@ -9,6 +9,8 @@
 pub mod curve;
 pub mod tempo;
 
+use std::f64::consts::{PI, TAU};
+
 use nalgebra::Vector3;
 
 pub use curve::{Curve, Jet, Rotor};
@@ -46,6 +48,8 @@ pub struct Span {
     pub hand: Curve,
     /// The head's path in the plane (hand plus tether).
     pub head: Curve,
+    /// The tether (or rod) term: grip to head end.
+    tether: Rotor,
 }
 
 impl Span {
@@ -89,6 +93,37 @@ impl Span {
     pub fn anchor(&self) -> Vector3<f64> {
         self.anchor
     }
+
+    /// Unit vector of the prop's direction (grip to head end) at `s` beats
+    /// into the section, in the plane's own (mirrored) coordinates.
+    pub fn direction(&self, s: f64) -> [f64; 2] {
+        let u = self.phase(s);
+        let (sn, cs) = num::sin_cos(self.tether.start_rad + TAU * self.tether.turns * u);
+        [cs, sn]
+    }
+
+    /// The path of the point `along_m` metres from the grip along the prop's
+    /// direction (negative: toward a staff's tail end), as a sum of rotating
+    /// terms in phase: the hand's terms plus a term of radius `|along_m|`.
+    pub fn point_curve(&self, along_m: f64) -> Curve {
+        let flip = if along_m < 0.0 { PI } else { 0.0 };
+        let term = Rotor {
+            radius_m: along_m.abs(),
+            turns: self.tether.turns,
+            start_rad: self.tether.start_rad + flip,
+        };
+        Curve::new(self.hand.rotors().iter().copied().chain([term]))
+    }
+
+    /// A point of the plane's own coordinates as `[right, up]` on the plane's
+    /// unmirrored clock, metres from the anchor (where pictures are placed).
+    pub fn unmirrored(&self, p: [f64; 2]) -> [f64; 2] {
+        if self.mirror {
+            [-p[1], p[0]]
+        } else {
+            [p[1], p[0]]
+        }
+    }
 }
 
 fn scale_jet(j: Jet, k: f64) -> Jet {
@@ -114,6 +149,8 @@ pub struct State {
     pub head_vel: Vector3<f64>,
     /// Head acceleration, m/s^2.
     pub head_acc: Vector3<f64>,
+    /// Unit vector from the grip toward the head end, stage coordinates.
+    pub dir: Vector3<f64>,
     /// Index into [`PropMotion::spans`], or `None` while resting.
     pub span: Option<usize>,
 }
@@ -174,6 +211,7 @@ impl PropMotion {
                     delay_beats: pl.delay_beats,
                     hand: Curve::new(hand_rotors.clone()),
                     head: Curve::new(hand_rotors.chain([tether])),
+                    tether,
                 })
             })
             .collect();
@@ -216,6 +254,7 @@ impl PropMotion {
                     head_m: span.to_stage(head.p),
                     head_vel: span.to_stage_dir(head.d1) * beats_per_s,
                     head_acc: span.to_stage_dir(head.d2) * k2,
+                    dir: span.to_stage_dir(span.direction(s)),
                     span: Some(i),
                 }
             }
@@ -226,6 +265,7 @@ impl PropMotion {
                 head_m: self.anchor - Vector3::new(0.0, self.tether_m, 0.0),
                 head_vel: Vector3::zeros(),
                 head_acc: Vector3::zeros(),
+                dir: Vector3::new(0.0, -1.0, 0.0),
                 span: None,
             },
         }

@@ -84,13 +84,15 @@ fn runs(
         return Ok(Vec::new());
     };
     let mut out: Vec<Run> = Vec::new();
+    let mut frame = vec![[0u8; 3]; pl.leds as usize];
     for k in k0..k1 {
         let a = (k as f64 / rate).max(t0);
         let b = ((k + 1) as f64 / rate).min(t1);
         if b <= a {
             continue;
         }
-        let bytes = pl.bytes(show, k);
+        pl.fill_frame(show, k, &mut frame);
+        let bytes = frame[0];
         match out.last_mut() {
             Some(last) if last.bytes == bytes && last.b == a => last.b = b,
             _ => out.push(Run { a, b, bytes }),

@@ -15,7 +15,8 @@ use toml::de::{DeTable, DeValue};
 
 use crate::diag::{Diagnostic, Diagnostics, Source, did_you_mean};
 use crate::model::{
-    Cue, EventKind, LedDriver, Pattern, Placement, Plane, Prop, PropKind, Section, Show, Term,
+    Along, Cue, End, EventKind, FixedTo, LedDriver, Look, Painting, Pattern, PicturePlacement,
+    Placement, Plane, Prop, PropKind, Section, Show, Steps, Strip, Term,
 };
 use crate::motion::TempoMap;
 use crate::output::WireOrder;
@@ -57,8 +58,10 @@ const TEMPO_KEYS: &[&str] = &["bar", "bpm"];
 const PROP_KEYS: &[&str] = &[
     "kind",
     "tether_m",
+    "tail_m",
     "anchor_m",
     "leds",
+    "strip",
     "head_mass_kg",
     "head_radius_m",
     "brightness",
@@ -91,9 +94,54 @@ const PATTERN_KEYS: &[&str] = &[
 ];
 const TERM_KEYS: &[&str] = &["radius_m", "turns", "start_deg"];
 const PLACEMENT_KEYS: &[&str] = &["pattern", "mirror", "delay_beats"];
-const CUE_KEYS: &[&str] = &["prop", "bars", "at", "angle_deg", "colours", "fade_beats"];
+const STRIP_KEYS: &[&str] = &["leds", "from_m", "to_m", "end"];
+const CUE_KEYS: &[&str] = &[
+    "prop",
+    "bars",
+    "at",
+    "angle_deg",
+    "colours",
+    "fade_beats",
+    "along",
+    "chase_leds_per_beat",
+    "chase_width_leds",
+    // Painting a picture:
+    "image",
+    "image_centre_m",
+    "image_width_m",
+    "image_height_m",
+    "image_rotation_deg",
+    "image_fixed_to",
+];
+/// Cue keys that go with stepped colours, not with `image`.
+const STEP_KEYS: &[&str] = &[
+    "at",
+    "angle_deg",
+    "colours",
+    "fade_beats",
+    "along",
+    "chase_leds_per_beat",
+    "chase_width_leds",
+];
+/// Cue keys that go with `image` only.
+const IMAGE_KEYS: &[&str] = &[
+    "image_centre_m",
+    "image_width_m",
+    "image_height_m",
+    "image_rotation_deg",
+    "image_fixed_to",
+];
 const PLANES: &[&str] = &["wall", "wheel", "floor"];
-const KINDS: &[&str] = &["poi"];
+const KINDS: &[&str] = &["poi", "staff"];
+const ENDS: &[&str] = &["head", "tail", "both"];
+const ALONGS: &[&str] = &["solid", "gradient", "chase"];
+const FIXED_TO: &[&str] = &["stage", "hand"];
+/// Most LEDs on one prop.
+pub const MAX_LEDS: u32 = 4096;
+/// Most strips on one prop.
+pub const MAX_STRIPS: usize = 16;
+/// Band width of a chase when `chase_width_leds` is left out, LEDs.
+pub const DEFAULT_CHASE_WIDTH_LEDS: f64 = 4.0;
 const AT_KINDS: &[&str] = &["tip", "inner", "stall", "beat", "bar", "angle"];
 
 /// Reads and validates the show file at `path`.
@@ -352,14 +400,32 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
         let kind = match ctx.string(t, "kind", false) {
             None => Some(PropKind::Poi),
             Some((k, _)) if k == "poi" => Some(PropKind::Poi),
+            Some((k, _)) if k == "staff" => Some(PropKind::Staff),
             Some((k, sp)) => {
                 unknown_name(ctx, &t.key_path("kind"), sp, "prop kind", &k, KINDS);
                 None
             }
         };
         let tether = ctx.number_in(t, "tether_m", true, 0.0, true, 10.0);
+        let tail = match (kind, t.get("tail_m")) {
+            (Some(PropKind::Poi), Some(v)) => {
+                ctx.error_help(
+                    &t.key_path("tail_m"),
+                    v.span(),
+                    "`tail_m` is for staffs: a poi has no tail end",
+                    "write `kind = \"staff\"`, or leave `tail_m` out",
+                );
+                None
+            }
+            (Some(PropKind::Staff), Some(_)) => ctx.number_in(t, "tail_m", true, 0.0, true, 10.0),
+            (Some(PropKind::Staff), None) => tether,
+            _ => Some(0.0),
+        };
         let anchor = vector3(ctx, t, "anchor_m");
-        let leds = ctx.integer_in(t, "leds", false, 1, 4096).unwrap_or(1) as u32;
+        let (leds, strips) = match kind {
+            Some(kind) => leds_and_strips(ctx, t, kind, tether.zip(tail)),
+            None => (None, None),
+        };
         let mass = ctx
             .number_in(t, "head_mass_kg", false, 0.0, true, 20.0)
             .unwrap_or(0.15);
@@ -424,21 +490,32 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
             }
         };
         let leds_per_line = ctx
-            .integer_in(t, "leds_per_line", false, 1, 4096)
-            .map_or(leds, |n| n as u32);
+            .integer_in(t, "leds_per_line", false, 1, i64::from(MAX_LEDS))
+            .map_or(leds.unwrap_or(1), |n| n as u32);
         let table_memory_kb = ctx.number_in(t, "table_memory_kb", false, 0.0, true, 1e9);
         let clock_ppm = ctx
             .number_in(t, "clock_ppm", false, 0.0, false, 1e6)
             .unwrap_or(DEFAULT_CLOCK_PPM);
-        if let (Some(kind), Some(tether_m), Some(anchor_m), Some(wire_order), Some(led_driver)) =
-            (kind, tether, anchor, wire_order, led_driver)
-        {
+        if let (
+            Some(kind),
+            Some(tether_m),
+            Some(tail_m),
+            Some(anchor_m),
+            Some(leds),
+            Some(strips),
+            Some(wire_order),
+            Some(led_driver),
+        ) = (
+            kind, tether, tail, anchor, leds, strips, wire_order, led_driver,
+        ) {
             out.push(Prop {
                 name,
                 kind,
                 tether_m,
+                tail_m,
                 anchor_m,
                 leds,
+                strips,
                 head_mass_kg: mass,
                 head_radius_m: head_radius,
                 brightness,
@@ -458,6 +535,171 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
         }
     }
     out
+}
+
+/// The LEDs of a prop: `leds` at the head (and, on a staff, at each end), or
+/// the strips of `strip`, a table or an array of tables. Returns the number
+/// of LEDs and the strips. `lengths` are the head and tail halves, metres
+/// (`None` when they are in error: the strips are then read, not placed).
+fn leds_and_strips(
+    ctx: &mut Ctx,
+    t: Tbl<'_, '_>,
+    kind: PropKind,
+    lengths: Option<(f64, f64)>,
+) -> (Option<u32>, Option<Vec<Strip>>) {
+    let (tether_m, tail_m) = lengths.unwrap_or((f64::INFINITY, f64::INFINITY));
+    let Some(v) = t.get("strip") else {
+        let most = match kind {
+            PropKind::Poi => MAX_LEDS,
+            PropKind::Staff => MAX_LEDS / 2,
+        };
+        let n = ctx.integer_in(t, "leds", false, 1, i64::from(most));
+        let n = match (n, t.get("leds")) {
+            (Some(n), _) => n as u32,
+            (None, Some(_)) => return (None, None),
+            (None, None) => 1,
+        };
+        if lengths.is_none() {
+            return (None, None);
+        }
+        let at = |end: End, d: f64| Strip {
+            end,
+            leds: n,
+            from_m: d,
+            to_m: d,
+        };
+        return match kind {
+            PropKind::Poi => (Some(n), Some(vec![at(End::Head, tether_m)])),
+            PropKind::Staff => (
+                Some(2 * n),
+                Some(vec![at(End::Head, tether_m), at(End::Tail, tail_m)]),
+            ),
+        };
+    };
+    if let Some(l) = t.get("leds") {
+        ctx.error_help(
+            &t.key_path("leds"),
+            l.span(),
+            "give either `leds` or `strip`, not both",
+            "with a strip, the LEDs are counted by its `leds`",
+        );
+    }
+    let path = t.key_path("strip");
+    let tables: Vec<(String, &DeTable<'_>, std::ops::Range<usize>)> = match v.get_ref() {
+        DeValue::Table(tb) => vec![(path.clone(), tb, v.span())],
+        DeValue::Array(arr) if !arr.is_empty() && arr.len() <= MAX_STRIPS => {
+            let mut out = Vec::new();
+            for (i, e) in arr.iter().enumerate() {
+                let p = format!("{path}[{i}]");
+                match e.get_ref() {
+                    DeValue::Table(tb) => out.push((p, tb, e.span())),
+                    other => {
+                        ctx.error(
+                            &p,
+                            e.span(),
+                            format!("expected a table, got {}", describe(other)),
+                        );
+                    }
+                }
+            }
+            out
+        }
+        other => {
+            ctx.error_help(
+                &path,
+                v.span(),
+                format!(
+                    "expected a table or an array of 1 to {MAX_STRIPS} tables, got {}",
+                    describe(other)
+                ),
+                "write `strip = { leds = 36, from_m = 0.12, to_m = 0.58 }`",
+            );
+            return (None, None);
+        }
+    };
+    let mut strips = Vec::new();
+    let mut ok = true;
+    for (p, tb, span) in &tables {
+        let st = Tbl {
+            path: p,
+            table: tb,
+            at: (span.start, span.end),
+        };
+        ctx.check_keys(st, STRIP_KEYS);
+        let leds = ctx.integer_in(st, "leds", true, 1, i64::from(MAX_LEDS));
+        let from = ctx.number_in(st, "from_m", true, 0.0, false, 10.0);
+        let to = ctx.number_in(st, "to_m", true, 0.0, false, 10.0);
+        let ends: Option<Vec<End>> = match (ctx.string(st, "end", false), kind) {
+            (None, PropKind::Poi) => Some(vec![End::Head]),
+            (None, PropKind::Staff) => Some(vec![End::Head, End::Tail]),
+            (Some((e, _)), _) if e == "head" => Some(vec![End::Head]),
+            (Some((e, _)), PropKind::Staff) if e == "tail" => Some(vec![End::Tail]),
+            (Some((e, _)), PropKind::Staff) if e == "both" => Some(vec![End::Head, End::Tail]),
+            (Some((e, sp)), PropKind::Poi) if ENDS.contains(&e.as_str()) => {
+                ctx.error_help(
+                    &st.key_path("end"),
+                    sp,
+                    format!("a poi's strip runs along its tether to the head: `end = \"{e}\"` is for staffs"),
+                    "leave `end` out, or write `end = \"head\"`",
+                );
+                None
+            }
+            (Some((e, sp)), _) => {
+                unknown_name(ctx, &st.key_path("end"), sp, "strip end", &e, ENDS);
+                None
+            }
+        };
+        let (Some(leds), Some(from), Some(to), Some(ends)) = (leds, from, to, ends) else {
+            ok = false;
+            continue;
+        };
+        if to < from {
+            ctx.error_help(
+                &st.key_path("to_m"),
+                tb.get("to_m").map_or(span.clone(), |x| x.span()),
+                format!("the strip ends at {to} m, nearer the grip than its start at {from} m"),
+                "LED 0 is the one nearest the grip: `from_m` is its distance, `to_m` the far LED's",
+            );
+            ok = false;
+            continue;
+        }
+        for end in ends {
+            let (length, what) = match end {
+                End::Head => (tether_m, "tether_m"),
+                End::Tail => (tail_m, "tail_m"),
+            };
+            if to > length + 1e-9 {
+                ctx.error_help(
+                    &st.key_path("to_m"),
+                    tb.get("to_m").map_or(span.clone(), |x| x.span()),
+                    format!("the strip reaches {to} m from the grip, beyond the prop's end at {length} m"),
+                    format!("`to_m` is at most `{what}`"),
+                );
+                ok = false;
+            }
+            strips.push(Strip {
+                end,
+                leds: leds as u32,
+                from_m: from,
+                to_m: to,
+            });
+        }
+    }
+    let total: u64 = strips.iter().map(|s| u64::from(s.leds)).sum();
+    if total > u64::from(MAX_LEDS) {
+        ctx.error(
+            &path,
+            v.span(),
+            format!(
+                "the strips hold {total} LEDs in all, more than the {MAX_LEDS} a prop may have"
+            ),
+        );
+        ok = false;
+    }
+    if !ok || strips.is_empty() {
+        return (None, None);
+    }
+    (Some(total as u32), Some(strips))
 }
 
 /// Names become file names: keep them to letters, digits, `_` and `-`.
@@ -803,56 +1045,211 @@ fn cues(ctx: &mut Ctx, root: Tbl<'_, '_>, props: &[Prop], names: &Declared) -> V
             i
         });
         let bars = ctx.bar_range(t, "bars", MAX_BAR);
-        let at = ctx.string(t, "at", true).and_then(|(name, sp)| {
-            let k = EventKind::from_name(&name);
-            if k.is_none() {
-                unknown_name(ctx, &t.key_path("at"), sp, "event kind", &name, AT_KINDS);
-            }
-            k
-        });
-        let angle = ctx
-            .number_in(t, "angle_deg", false, -36_000.0, false, 36_000.0)
-            .map(|a| a.rem_euclid(360.0));
-        match (at, t.get("angle_deg")) {
-            (Some(EventKind::Angle), None) => {
-                ctx.error_help(
-                    &t.key_path("angle_deg"),
-                    t.span(),
-                    "`at = \"angle\"` needs `angle_deg`",
-                    "clock angle in degrees: 0 is 12 o'clock, 90 is 3 o'clock",
-                );
-            }
-            (Some(k), Some(v)) if k != EventKind::Angle => {
-                ctx.error(
-                    &t.key_path("angle_deg"),
-                    v.span(),
-                    format!(
-                        "`angle_deg` only goes with `at = \"angle\"`, not `{}`",
-                        k.name()
-                    ),
-                );
-            }
-            _ => {}
-        }
-        let colours = colours(ctx, t);
-        let fade = ctx
-            .number_in(t, "fade_beats", false, 0.0, false, 10_000.0)
-            .unwrap_or(0.0);
-        if let (Some(prop), Some((first_bar, last_bar, _)), Some(at), Some(colours)) =
-            (prop, bars, at, colours)
-        {
+        let look = if t.get("image").is_some() {
+            painting(ctx, t).map(Look::Image)
+        } else {
+            steps(ctx, t).map(Look::Steps)
+        };
+        if let (Some(prop), Some((first_bar, last_bar, _)), Some(look)) = (prop, bars, look) {
             out.push(Cue {
                 prop,
                 first_bar,
                 last_bar,
-                at,
-                angle_deg: angle,
-                colours,
-                fade_beats: fade,
+                look,
             });
         }
     }
     out
+}
+
+/// The stepped colours of a cue without `image`.
+fn steps(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Steps> {
+    for key in IMAGE_KEYS {
+        if let Some(v) = t.get(key) {
+            ctx.error_help(
+                &t.key_path(key),
+                v.span(),
+                format!("`{key}` goes with `image`"),
+                "add `image = \"picture.png\"`, or leave the key out",
+            );
+        }
+    }
+    let at = ctx.string(t, "at", true).and_then(|(name, sp)| {
+        let k = EventKind::from_name(&name);
+        if k.is_none() {
+            unknown_name(ctx, &t.key_path("at"), sp, "event kind", &name, AT_KINDS);
+        }
+        k
+    });
+    let angle = ctx
+        .number_in(t, "angle_deg", false, -36_000.0, false, 36_000.0)
+        .map(|a| a.rem_euclid(360.0));
+    match (at, t.get("angle_deg")) {
+        (Some(EventKind::Angle), None) => {
+            ctx.error_help(
+                &t.key_path("angle_deg"),
+                t.span(),
+                "`at = \"angle\"` needs `angle_deg`",
+                "clock angle in degrees: 0 is 12 o'clock, 90 is 3 o'clock",
+            );
+        }
+        (Some(k), Some(v)) if k != EventKind::Angle => {
+            ctx.error(
+                &t.key_path("angle_deg"),
+                v.span(),
+                format!(
+                    "`angle_deg` only goes with `at = \"angle\"`, not `{}`",
+                    k.name()
+                ),
+            );
+        }
+        _ => {}
+    }
+    let colours = colours(ctx, t);
+    let fade = ctx
+        .number_in(t, "fade_beats", false, 0.0, false, 10_000.0)
+        .unwrap_or(0.0);
+    let along = along(ctx, t);
+    Some(Steps {
+        at: at?,
+        angle_deg: angle,
+        colours: colours?,
+        fade_beats: fade,
+        along: along?,
+    })
+}
+
+/// `along` and the chase keys.
+fn along(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Along> {
+    let kind = match ctx.string(t, "along", false) {
+        None => Some("solid".to_string()),
+        Some((a, _)) if ALONGS.contains(&a.as_str()) => Some(a),
+        Some((a, sp)) => {
+            unknown_name(ctx, &t.key_path("along"), sp, "spread", &a, ALONGS);
+            None
+        }
+    };
+    if kind.as_deref() != Some("chase") {
+        for key in ["chase_leds_per_beat", "chase_width_leds"] {
+            if let Some(v) = t.get(key) {
+                ctx.error_help(
+                    &t.key_path(key),
+                    v.span(),
+                    format!("`{key}` goes with `along = \"chase\"`"),
+                    "add `along = \"chase\"`, or leave the key out",
+                );
+            }
+        }
+    }
+    match kind?.as_str() {
+        "solid" => Some(Along::Solid),
+        "gradient" => Some(Along::Gradient),
+        _ => {
+            let speed = ctx.number_in(t, "chase_leds_per_beat", true, -10_000.0, false, 10_000.0);
+            let width = ctx
+                .number_in(t, "chase_width_leds", false, 0.0, true, f64::from(MAX_LEDS))
+                .or(t
+                    .get("chase_width_leds")
+                    .is_none()
+                    .then_some(DEFAULT_CHASE_WIDTH_LEDS));
+            Some(Along::Chase {
+                leds_per_beat: speed?,
+                width_leds: width?,
+            })
+        }
+    }
+}
+
+/// The picture of a cue with `image`, read from a file beside the show.
+fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Painting> {
+    for key in STEP_KEYS {
+        if let Some(v) = t.get(key) {
+            ctx.error_help(
+                &t.key_path(key),
+                v.span(),
+                format!("`{key}` does not go with `image`: a painting takes its colours from the picture"),
+                "paint the picture in one cue and step colours in another",
+            );
+        }
+    }
+    let (file, file_span) = ctx.string(t, "image", true)?;
+    let width = ctx.number_in(t, "image_width_m", true, 0.0, true, 100.0);
+    let height = ctx.number_in(t, "image_height_m", false, 0.0, true, 100.0);
+    let rotation = ctx
+        .number_in(t, "image_rotation_deg", false, -36_000.0, false, 36_000.0)
+        .unwrap_or(0.0);
+    let centre = match t.get("image_centre_m") {
+        None => Some([0.0, 0.0]),
+        Some(v) => {
+            let nums: Option<Vec<f64>> = match v.get_ref() {
+                DeValue::Array(a) => a.iter().map(|x| reader::as_number(x.get_ref())).collect(),
+                _ => None,
+            };
+            match nums.as_deref() {
+                Some(&[r, u])
+                    if r.is_finite() && u.is_finite() && r.abs() <= 100.0 && u.abs() <= 100.0 =>
+                {
+                    Some([r, u])
+                }
+                _ => {
+                    ctx.error_help(
+                        &t.key_path("image_centre_m"),
+                        v.span(),
+                        "expected two numbers [right, up] in metres (each within 100 m)",
+                        "the picture's centre in the plane, measured from the prop's anchor",
+                    );
+                    None
+                }
+            }
+        }
+    };
+    let fixed_to = match ctx.string(t, "image_fixed_to", false) {
+        None => Some(FixedTo::Stage),
+        Some((f, _)) if f == "stage" => Some(FixedTo::Stage),
+        Some((f, _)) if f == "hand" => Some(FixedTo::Hand),
+        Some((f, sp)) => {
+            unknown_name(
+                ctx,
+                &t.key_path("image_fixed_to"),
+                sp,
+                "fixing",
+                &f,
+                FIXED_TO,
+            );
+            None
+        }
+    };
+    let base = Path::new(&ctx.src.name)
+        .parent()
+        .map(Path::to_path_buf)
+        .unwrap_or_default();
+    let picture = match crate::picture::Picture::load(&base.join(&file)) {
+        Ok(p) => Some(p),
+        Err(e) => {
+            ctx.error_help(
+                &t.key_path("image"),
+                file_span,
+                format!("`{file}`: {e}"),
+                "the path is read from the show file's folder; PNG and JPEG are read",
+            );
+            None
+        }
+    };
+    let picture = picture?;
+    let width_m = width?;
+    let height_m =
+        height.unwrap_or(width_m * f64::from(picture.height()) / f64::from(picture.width()));
+    Some(Painting {
+        file,
+        picture: Arc::new(picture),
+        placement: PicturePlacement {
+            centre_m: centre?,
+            width_m,
+            height_m,
+            rotation_deg: rotation,
+            fixed_to: fixed_to?,
+        },
+    })
 }
 
 fn colours(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Vec<[u8; 3]>> {
