@@ -9,6 +9,8 @@
 use std::fs::{self, File};
 use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
+use std::sync::mpsc::{SyncSender, sync_channel};
+use std::thread::JoinHandle;
 
 use rayon::prelude::*;
 use serde::Serialize;
@@ -20,7 +22,7 @@ use crate::events::find_events;
 use crate::model::Show;
 use crate::motion::{PropMotion, simulate};
 use crate::output::{
-    CHeaderWriter, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, OutputError,
+    CHeaderText, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, OutputError,
     TableForm, TableSpec, WriteStats,
 };
 use crate::preview::{self, PreviewOptions};
@@ -292,14 +294,130 @@ fn write_report(
     f.flush().map_err(io)
 }
 
-/// The four streaming writers of one prop.
+/// Bytes handed to a [`Background`] writer's thread at a time.
+const BACKGROUND_CHUNK: usize = 1 << 20;
+/// Chunks waiting for a [`Background`] writer's thread, at most.
+const BACKGROUND_QUEUE: usize = 4;
+
+/// A writer whose bytes are written to `W` by a thread of its own, in
+/// chunks, in order: formatting and the operating system's copying of large
+/// files then overlap with the work that produces them.
+struct Background<W: Write + Send + 'static> {
+    buf: Vec<u8>,
+    tx: Option<SyncSender<Vec<u8>>>,
+    thread: Option<JoinHandle<std::io::Result<W>>>,
+}
+
+impl<W: Write + Send + 'static> Background<W> {
+    /// Starts the thread that writes to `inner`.
+    fn new(mut inner: W) -> Self {
+        let (tx, rx) = sync_channel::<Vec<u8>>(BACKGROUND_QUEUE);
+        let thread = std::thread::spawn(move || {
+            for chunk in rx {
+                inner.write_all(&chunk)?;
+            }
+            inner.flush()?;
+            Ok(inner)
+        });
+        Background {
+            buf: Vec::with_capacity(BACKGROUND_CHUNK),
+            tx: Some(tx),
+            thread: Some(thread),
+        }
+    }
+
+    fn send(&mut self) -> std::io::Result<()> {
+        let chunk = std::mem::replace(&mut self.buf, Vec::with_capacity(BACKGROUND_CHUNK));
+        match self.tx.as_ref() {
+            Some(tx) if tx.send(chunk).is_ok() => Ok(()),
+            // The thread stopped on an error; `finish` reports it.
+            _ => Err(std::io::Error::other("the writing thread stopped")),
+        }
+    }
+
+    /// Writes what is left, waits for the thread and hands back `W`, or the
+    /// first error the thread met.
+    fn finish(mut self) -> std::io::Result<W> {
+        let sent = if self.buf.is_empty() {
+            Ok(())
+        } else {
+            self.send()
+        };
+        self.tx = None;
+        let joined = match self.thread.take().map(JoinHandle::join) {
+            Some(Ok(r)) => r,
+            _ => Err(std::io::Error::other("the writing thread failed")),
+        };
+        let inner = joined?;
+        sent?;
+        Ok(inner)
+    }
+}
+
+impl<W: Write + Send + 'static> Write for Background<W> {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        self.buf.extend_from_slice(buf);
+        if self.buf.len() >= BACKGROUND_CHUNK {
+            self.send()?;
+        }
+        Ok(buf.len())
+    }
+
+    fn flush(&mut self) -> std::io::Result<()> {
+        // The thread flushes `W` when it finishes.
+        Ok(())
+    }
+}
+
+impl<W: Write + Send + 'static> Drop for Background<W> {
+    fn drop(&mut self) {
+        self.tx = None;
+        if let Some(t) = self.thread.take() {
+            let _ = t.join();
+        }
+    }
+}
+
+/// Where a binary table's bytes go: its file and, for the form the C header
+/// embeds, the header's text too (so that the table is encoded once).
+struct TableOut {
+    file: Background<File>,
+    header: Option<Background<CHeaderText<File>>>,
+}
+
+impl TableOut {
+    /// Finishes the file, and hands back the header's text if it went there.
+    fn finish(self) -> std::io::Result<Option<CHeaderText<File>>> {
+        self.file.finish()?;
+        self.header.map(Background::finish).transpose()
+    }
+}
+
+impl Write for TableOut {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        self.file.write_all(buf)?;
+        if let Some(h) = self.header.as_mut() {
+            h.write_all(buf)?;
+        }
+        Ok(buf.len())
+    }
+
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.file.flush()?;
+        if let Some(h) = self.header.as_mut() {
+            h.flush()?;
+        }
+        Ok(())
+    }
+}
+
+/// The streaming writers of one prop's four files.
 struct PropWriters {
     names: [String; 4],
     leds: usize,
-    csv: CsvWriter<File>,
-    full: FullTableWriter<File>,
-    compact: CompactTableWriter<File>,
-    header: CHeaderWriter<File>,
+    csv: CsvWriter<Background<File>>,
+    full: FullTableWriter<TableOut>,
+    compact: CompactTableWriter<TableOut>,
 }
 
 impl PropWriters {
@@ -329,39 +447,57 @@ impl PropWriters {
             File::create(&path)
                 .map_err(|e| CompileError::Io(format!("cannot create `{}`: {e}", path.display())))
         };
+        let header = Background::new(CHeaderText::new(
+            open(&names[3])?,
+            spec,
+            &prop.name,
+            header_form,
+        )?);
+        let (mut full_header, mut compact_header) = (None, None);
+        match header_form {
+            TableForm::Full => full_header = Some(header),
+            TableForm::Compact => compact_header = Some(header),
+        }
+        let full = TableOut {
+            file: Background::new(open(&names[1])?),
+            header: full_header,
+        };
+        let compact = TableOut {
+            file: Background::new(open(&names[2])?),
+            header: compact_header,
+        };
         Ok(PropWriters {
-            csv: CsvWriter::new(open(&names[0])?, spec)?,
-            full: FullTableWriter::new(open(&names[1])?, spec)?,
-            compact: CompactTableWriter::new(open(&names[2])?, spec)?,
-            header: CHeaderWriter::new(open(&names[3])?, spec, &prop.name, header_form)?,
+            csv: CsvWriter::new(Background::new(open(&names[0])?), spec)?,
+            full: FullTableWriter::new(full, spec)?,
+            compact: CompactTableWriter::new(compact, spec)?,
             names,
             leds: prop.leds as usize,
         })
     }
 
-    /// Writes `n` frames held one after the other in `block`; the text and
-    /// the binary forms are written side by side.
+    /// Writes `n` frames held one after the other in `block`: the CSV and
+    /// full table beside the compact table and the C header.
     fn push_block(&mut self, block: &[[u8; 3]], n: usize) -> Result<(), CompileError> {
         let frames = &block[..n * self.leds];
         let leds = self.leds;
-        let (text, binary) = rayon::join(
+        let (csv, full, compact) = (&mut self.csv, &mut self.full, &mut self.compact);
+        let (a, b) = rayon::join(
             || -> Result<(), OutputError> {
                 for f in frames.chunks(leds) {
-                    self.csv.push_frame(f)?;
-                    self.header.push_frame(f)?;
+                    csv.push_frame(f)?;
+                    full.push_frame(f)?;
                 }
                 Ok(())
             },
             || -> Result<(), OutputError> {
                 for f in frames.chunks(leds) {
-                    self.full.push_frame(f)?;
-                    self.compact.push_frame(f)?;
+                    compact.push_frame(f)?;
                 }
                 Ok(())
             },
         );
-        text?;
-        binary?;
+        a?;
+        b?;
         Ok(())
     }
 
@@ -373,24 +509,32 @@ impl PropWriters {
             crc32: s.crc32.map(|c| format!("0x{c:08x}")),
         };
         let names = &self.names;
-        let (c, f, p, h) = (
-            self.csv.finish()?,
-            self.full.finish()?,
-            self.compact.finish()?,
-            self.header.finish()?,
-        );
+        let io = |name: &String, e: std::io::Error| {
+            CompileError::Io(format!("cannot write `{name}`: {e}"))
+        };
+        let (csv_out, csv) = self.csv.finish_into_inner()?;
+        csv_out.finish().map_err(|e| io(&names[0], e))?;
+        let (full_out, full) = self.full.finish_into_inner()?;
+        let full_header = full_out.finish().map_err(|e| io(&names[1], e))?;
+        let (compact_out, compact) = self.compact.finish_into_inner()?;
+        let compact_header = compact_out.finish().map_err(|e| io(&names[2], e))?;
+        let header = full_header
+            .or(compact_header)
+            .ok_or_else(|| CompileError::Io("the C header was not opened".into()))?;
+        let (_, header_bytes) = header.finish()?;
         Ok(PropTables {
             leds: prop.leds,
             wire_order: prop.wire_order.name(),
             csv: FileInfo {
                 crc32: None,
-                ..info(&names[0], c)
+                ..info(&names[0], csv)
             },
-            full: info(&names[1], f),
-            compact: info(&names[2], p),
+            full: info(&names[1], full),
+            compact: info(&names[2], compact),
             header: FileInfo {
+                file: names[3].clone(),
+                bytes: header_bytes,
                 crc32: None,
-                ..info(&names[3], h)
             },
         })
     }

@@ -40,14 +40,37 @@ pub fn c_identifier(name: &str) -> String {
     format!("{prefix}{base}_table")
 }
 
+/// `" 0xhh,"` for every byte value: the text of one byte after the first on a line.
+const HEX_ITEM: [[u8; 6]; 256] = {
+    const DIGITS: &[u8; 16] = b"0123456789abcdef";
+    let mut t = [[0u8; 6]; 256];
+    let mut b = 0;
+    while b < 256 {
+        t[b] = [b' ', b'0', b'x', DIGITS[b >> 4], DIGITS[b & 15], b','];
+        b += 1;
+    }
+    t
+};
+
 /// Turns bytes into C hex literals (`0x47,`), twelve to an indented line, and counts the text.
 struct HexWriter<W: Write> {
     out: BufWriter<W>,
     col: usize,
     text_bytes: u64,
+    /// The text of the bytes of one `write` call, before it is passed on.
+    line: Vec<u8>,
 }
 
 impl<W: Write> HexWriter<W> {
+    fn new(out: W) -> Self {
+        HexWriter {
+            out: BufWriter::with_capacity(256 * 1024, out),
+            col: 0,
+            text_bytes: 0,
+            line: Vec::new(),
+        }
+    }
+
     /// Writes plain text (outside the array).
     fn text(&mut self, s: &str) -> io::Result<()> {
         self.out.write_all(s.as_bytes())?;
@@ -67,20 +90,26 @@ impl<W: Write> HexWriter<W> {
 
 impl<W: Write> Write for HexWriter<W> {
     fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
-        const HEX: &[u8; 16] = b"0123456789abcdef";
+        let text = &mut self.line;
+        text.clear();
+        text.reserve(buf.len() * 6 + buf.len() / BYTES_PER_LINE * 4 + 8);
         for &b in buf {
-            let lead: &[u8] = if self.col == 0 { b"    0x" } else { b" 0x" };
-            self.out.write_all(lead)?;
-            self.out
-                .write_all(&[HEX[usize::from(b >> 4)], HEX[usize::from(b & 15)], b','])?;
-            self.text_bytes += lead.len() as u64 + 3;
+            let item = &HEX_ITEM[usize::from(b)];
+            if self.col == 0 {
+                // The first byte of a line: four spaces of indent instead of one.
+                text.extend_from_slice(b"    ");
+                text.extend_from_slice(&item[1..]);
+            } else {
+                text.extend_from_slice(item);
+            }
             self.col += 1;
             if self.col == BYTES_PER_LINE {
                 self.col = 0;
-                self.out.write_all(b"\n")?;
-                self.text_bytes += 1;
+                text.push(b'\n');
             }
         }
+        self.out.write_all(text)?;
+        self.text_bytes += text.len() as u64;
         Ok(buf.len())
     }
 
@@ -89,19 +118,22 @@ impl<W: Write> Write for HexWriter<W> {
     }
 }
 
-enum Inner<W: Write> {
-    Full(FullTableWriter<HexWriter<W>>),
-    Compact(Box<CompactTableWriter<HexWriter<W>>>),
-}
-
-/// Streams a C99 header embedding a full or compact binary table.
-pub struct CHeaderWriter<W: Write> {
-    inner: Inner<W>,
+/// The text of a C header around a binary table: the opening text (comment,
+/// guard, macros, array start) when it is made, then the table's bytes as hex
+/// as they are written to it, then the closing text at [`CHeaderText::finish`].
+///
+/// [`CHeaderWriter`] encodes a table into one; a caller that writes the same
+/// table to a file as well can tee the encoder's bytes into one instead and
+/// encode the table once.
+pub struct CHeaderText<W: Write> {
+    hex: HexWriter<W>,
     macro_prefix: String,
+    table_bytes: u64,
 }
 
-impl<W: Write> CHeaderWriter<W> {
-    /// Validates `spec`, writes the opening text (guard, macros, array start) for table `name`.
+impl<W: Write> CHeaderText<W> {
+    /// Validates `spec` and writes the opening text for the array of table
+    /// `name` in form `form`.
     pub fn new(out: W, spec: TableSpec, name: &str, form: TableForm) -> Result<Self, OutputError> {
         spec.validate()?;
         let ident = c_identifier(name);
@@ -110,11 +142,7 @@ impl<W: Write> CHeaderWriter<W> {
             TableForm::Full => ("full", 0),
             TableForm::Compact => ("compact", 1),
         };
-        let mut hex = HexWriter {
-            out: BufWriter::with_capacity(64 * 1024, out),
-            col: 0,
-            text_bytes: 0,
-        };
+        let mut hex = HexWriter::new(out);
         hex.text(&format!(
             "/* {ident}: glowscore frame table, {form_name} form: {rate} Hz, {leds} LEDs, \
              {frames} frames, wire order {order}.\n \
@@ -143,35 +171,73 @@ impl<W: Write> CHeaderWriter<W> {
             bpl = spec.order.bytes_per_led(),
             order = spec.order.name(),
         ))?;
-        let inner = match form {
-            TableForm::Full => Inner::Full(FullTableWriter::new(hex, spec)?),
-            TableForm::Compact => Inner::Compact(Box::new(CompactTableWriter::new(hex, spec)?)),
-        };
-        Ok(CHeaderWriter {
-            inner,
+        Ok(CHeaderText {
+            hex,
             macro_prefix: m,
+            table_bytes: 0,
         })
+    }
+
+    /// Writes the closing text (with the size macro: the bytes written to
+    /// it), flushes, and hands back the output and the characters of text.
+    pub fn finish(mut self) -> Result<(W, u64), OutputError> {
+        let m = &self.macro_prefix;
+        let size = self.table_bytes;
+        self.hex.end_line()?;
+        self.hex.text(&format!(
+            "}};\n\n#define {m}_SIZE {size}u\n\n#endif /* {m}_H */\n"
+        ))?;
+        let text_bytes = self.hex.text_bytes;
+        let out = self.hex.out.into_inner().map_err(|e| e.into_error())?;
+        Ok((out, text_bytes))
+    }
+}
+
+impl<W: Write> Write for CHeaderText<W> {
+    fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
+        let n = self.hex.write(buf)?;
+        self.table_bytes += n as u64;
+        Ok(n)
+    }
+
+    fn flush(&mut self) -> io::Result<()> {
+        self.hex.flush()
+    }
+}
+
+enum Inner<W: Write> {
+    Full(FullTableWriter<CHeaderText<W>>),
+    Compact(Box<CompactTableWriter<CHeaderText<W>>>),
+}
+
+/// Streams a C99 header embedding a full or compact binary table.
+pub struct CHeaderWriter<W: Write> {
+    inner: Inner<W>,
+}
+
+impl<W: Write> CHeaderWriter<W> {
+    /// Validates `spec`, writes the opening text (guard, macros, array start) for table `name`.
+    pub fn new(out: W, spec: TableSpec, name: &str, form: TableForm) -> Result<Self, OutputError> {
+        let text = CHeaderText::new(out, spec, name, form)?;
+        let inner = match form {
+            TableForm::Full => Inner::Full(FullTableWriter::new(text, spec)?),
+            TableForm::Compact => Inner::Compact(Box::new(CompactTableWriter::new(text, spec)?)),
+        };
+        Ok(CHeaderWriter { inner })
     }
 
     /// Like [`FrameWriter::finish`], and also hands back the output.
     pub fn finish_into_inner(self) -> Result<(W, WriteStats), OutputError> {
-        let (mut hex, table) = match self.inner {
+        let (text, table) = match self.inner {
             Inner::Full(w) => w.finish_into_inner()?,
             Inner::Compact(w) => w.finish_into_inner()?,
         };
-        let m = &self.macro_prefix;
-        let size = table.bytes_written;
-        hex.end_line()?;
-        hex.text(&format!(
-            "}};\n\n#define {m}_SIZE {size}u\n\n#endif /* {m}_H */\n"
-        ))?;
-        let text_bytes = hex.text_bytes;
-        let out = hex.out.into_inner().map_err(|e| e.into_error())?;
+        let (out, text_bytes) = text.finish()?;
         Ok((
             out,
             WriteStats {
                 bytes_written: text_bytes,
-                table_bytes: Some(size),
+                table_bytes: Some(table.bytes_written),
                 ..table
             },
         ))
@@ -221,11 +287,7 @@ mod tests {
 
     #[test]
     fn hex_lines_hold_twelve_bytes() {
-        let mut hex = HexWriter {
-            out: BufWriter::new(Vec::new()),
-            col: 0,
-            text_bytes: 0,
-        };
+        let mut hex = HexWriter::new(Vec::new());
         hex.write_all(&(0u8..14).collect::<Vec<_>>()).unwrap();
         hex.end_line().unwrap();
         let n = hex.text_bytes;

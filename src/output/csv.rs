@@ -16,7 +16,8 @@ pub struct CsvWriter<W: Write> {
     sink: Sink<W>,
     spec: TableSpec,
     pushed: u32,
-    row: String,
+    /// The text of the row being written.
+    row: Vec<u8>,
 }
 
 /// The start time of frame `k` at `rate` Hz, in seconds with six decimals (`"0.002000"`).
@@ -43,7 +44,7 @@ impl<W: Write> CsvWriter<W> {
             sink,
             spec,
             pushed: 0,
-            row: String::new(),
+            row: Vec::new(),
         })
     }
 
@@ -64,20 +65,40 @@ impl<W: Write> CsvWriter<W> {
     }
 }
 
+/// `,d`, `,dd` or `,ddd` for every byte value (the first `len` bytes of the entry).
+const DECIMAL: [([u8; 4], u8); 256] = {
+    let mut t = [([0u8; 4], 0u8); 256];
+    let mut b = 0;
+    while b < 256 {
+        let (h, d, u) = ((b / 100) as u8, (b / 10 % 10) as u8, (b % 10) as u8);
+        t[b] = if b >= 100 {
+            ([b',', b'0' + h, b'0' + d, b'0' + u], 4)
+        } else if b >= 10 {
+            ([b',', b'0' + d, b'0' + u, 0], 3)
+        } else {
+            ([b',', b'0' + u, 0, 0], 2)
+        };
+        b += 1;
+    }
+    t
+};
+
 impl<W: Write> FrameWriter for CsvWriter<W> {
     fn push_frame(&mut self, frame: &[[u8; 3]]) -> Result<(), OutputError> {
         let k = check_frame(&self.spec, self.pushed, frame)?;
-        self.row.clear();
-        let _ = write!(
-            self.row,
-            "{k},{}",
-            frame_time_text(k, self.spec.frame_rate_hz)
-        );
-        for [r, g, b] in frame {
-            let _ = write!(self.row, ",{r},{g},{b}");
+        let row = &mut self.row;
+        row.clear();
+        row.extend_from_slice(k.to_string().as_bytes());
+        row.push(b',');
+        row.extend_from_slice(frame_time_text(k, self.spec.frame_rate_hz).as_bytes());
+        for led in frame {
+            for &v in led {
+                let (text, len) = &DECIMAL[usize::from(v)];
+                row.extend_from_slice(&text[..usize::from(*len)]);
+            }
         }
-        self.row.push('\n');
-        self.sink.put(self.row.as_bytes())?;
+        row.push(b'\n');
+        self.sink.put(row)?;
         self.pushed += 1;
         Ok(())
     }

@@ -20,7 +20,7 @@ mod reader;
 mod spec;
 mod wire;
 
-pub use c_header::{CHeaderWriter, c_identifier};
+pub use c_header::{CHeaderText, CHeaderWriter, c_identifier};
 pub use compact::{CompactTableWriter, FADE_FRACTION_BITS, SegmentKind};
 pub use csv::CsvWriter;
 pub use error::{OutputError, ReadError};
