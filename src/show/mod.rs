@@ -415,7 +415,7 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
                     "`tail_m` is for staffs: a poi has no tail end",
                     "write `kind = \"staff\"`, or leave `tail_m` out",
                 );
-                None
+                Some(0.0)
             }
             (Some(PropKind::Staff), Some(_)) => ctx.number_in(t, "tail_m", true, 0.0, true, 10.0),
             (Some(PropKind::Staff), None) => tether,
@@ -1212,7 +1212,7 @@ fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Painting> {
                 ctx,
                 &t.key_path("image_fixed_to"),
                 sp,
-                "fixing",
+                "picture mount",
                 &f,
                 FIXED_TO,
             );
