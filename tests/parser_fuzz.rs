@@ -7,11 +7,22 @@ use proptest::prelude::*;
 
 const DEMO: &str = include_str!("../shows/moth-garden.toml");
 const REEL: &str = include_str!("../shows/salt-marsh-reel.toml");
+const FERRY: &str = include_str!("../shows/night-ferry.toml");
 
 fn run(text: String) {
-    if let Ok(show) = glowscore::show::parse("fuzz.toml", text) {
+    // Named as if in `shows/`, so that the ferry's picture is found.
+    if let Ok(show) = glowscore::show::parse("shows/fuzz.toml", text) {
         let motions = glowscore::motion::simulate(&show);
-        let _ = glowscore::events::find_events(&show, &motions);
+        let events = glowscore::events::find_events(&show, &motions);
+        // Colours on a few frames of every prop, strips and paintings too.
+        let lights = glowscore::cues::place(&show, &motions, &events);
+        let n = show.frame_count();
+        for pl in &lights.props {
+            let mut frame = vec![[0u8; 3]; pl.leds as usize];
+            for k in [0, n / 3, n / 2, n.saturating_sub(1)] {
+                pl.fill_frame(&show, k, &mut frame);
+            }
+        }
     }
 }
 
@@ -46,9 +57,9 @@ proptest! {
     #[test]
     fn mutated_demo_shows_never_panic(
         edits in proptest::collection::vec((any::<usize>(), any::<u8>(), any::<u8>()), 1..8),
-        which: bool,
+        which in 0..3usize,
     ) {
-        run(mutate(if which { DEMO } else { REEL }, &edits));
+        run(mutate([DEMO, REEL, FERRY][which], &edits));
     }
 
     #[test]
@@ -61,14 +72,16 @@ proptest! {
             Just("{}".to_string()), Just("1979-05-27".to_string()),
         ],
     ) {
-        // Replace the n-th number of the demo with an edge value.
-        let nums: Vec<(usize, usize)> = DEMO
+        // Replace the n-th number of a demo with an edge value.
+        let demo = if pos % 2 == 0 { DEMO } else { FERRY };
+        let pos = pos / 2;
+        let nums: Vec<(usize, usize)> = demo
             .match_indices(|c: char| c.is_ascii_digit())
             .map(|(i, _)| i)
-            .filter(|&i| i == 0 || !DEMO.as_bytes()[i - 1].is_ascii_digit() && DEMO.as_bytes()[i - 1] != b'.')
-            .map(|i| (i, DEMO[i..].find(|c: char| !(c.is_ascii_digit() || c == '.')).map_or(DEMO.len(), |e| i + e)))
+            .filter(|&i| i == 0 || !demo.as_bytes()[i - 1].is_ascii_digit() && demo.as_bytes()[i - 1] != b'.')
+            .map(|i| (i, demo[i..].find(|c: char| !(c.is_ascii_digit() || c == '.')).map_or(demo.len(), |e| i + e)))
             .collect();
         let (a, b) = nums[pos % nums.len()];
-        run(format!("{}{}{}", &DEMO[..a], value, &DEMO[b..]));
+        run(format!("{}{}{}", &demo[..a], value, &demo[b..]));
     }
 }
