@@ -1,0 +1,94 @@
+//! Reading pictures to paint: PNG (8 and 16 bits, grey or colour, with or
+//! without alpha) and JPEG, decoded to linear light with the IEC 61966-2-1
+//! transfer function; broken and oversized files refused with a message.
+
+use std::path::{Path, PathBuf};
+
+use glowscore::colour::srgb_to_linear;
+use glowscore::picture::Picture;
+
+fn tmp(name: &str) -> PathBuf {
+    let d = Path::new(env!("CARGO_TARGET_TMPDIR")).join("picture");
+    std::fs::create_dir_all(&d).unwrap();
+    d.join(name)
+}
+
+fn close(a: f32, b: f64, tol: f64, what: &str) {
+    assert!((f64::from(a) - b).abs() <= tol, "{what}: {a} vs {b}");
+}
+
+#[test]
+fn png_texels_decode_to_premultiplied_linear_light() {
+    // 8-bit RGBA: (128, 64, 255) at alpha 51 (0.2).
+    let path = tmp("rgba8.png");
+    image::RgbaImage::from_pixel(3, 2, image::Rgba([128, 64, 255, 51]))
+        .save(&path)
+        .unwrap();
+    let p = Picture::load(&path).unwrap();
+    assert_eq!((p.width(), p.height()), (3, 2));
+    let t = p.texel(2, 1);
+    // IEC 61966-2-1: 128/255 -> 0.2158605, 64/255 -> 0.0512695 (linear).
+    close(t[0], 0.215_860_5 * 0.2, 1e-6, "red");
+    close(t[1], 0.051_269_5 * 0.2, 1e-6, "green");
+    close(t[2], 0.2, 1e-6, "blue");
+    close(t[3], 0.2, 1e-6, "alpha");
+
+    // 16-bit grey without alpha: every channel the grey, opaque.
+    let path = tmp("grey16.png");
+    image::ImageBuffer::<image::Luma<u16>, Vec<u16>>::from_pixel(1, 1, image::Luma([40_000]))
+        .save(&path)
+        .unwrap();
+    let t = Picture::load(&path).unwrap().texel(0, 0);
+    let want = srgb_to_linear(40_000.0 / 65_535.0);
+    for c in 0..3 {
+        close(t[c], want, 1e-6, "grey");
+    }
+    close(t[3], 1.0, 0.0, "opaque");
+}
+
+#[test]
+fn jpeg_pictures_are_read_too() {
+    // JPEG is lossy: a flat orange square comes back within a few steps.
+    let path = tmp("flat.jpg");
+    image::RgbImage::from_pixel(16, 16, image::Rgb([255, 128, 0]))
+        .save(&path)
+        .unwrap();
+    let p = Picture::load(&path).unwrap();
+    let t = p.texel(8, 8);
+    close(t[0], 1.0, 0.03, "red");
+    close(t[1], srgb_to_linear(128.0 / 255.0), 0.03, "green");
+    close(t[2], 0.0, 0.03, "blue");
+    close(t[3], 1.0, 0.0, "alpha");
+}
+
+#[test]
+fn broken_and_oversized_pictures_are_refused() {
+    let path = tmp("not-a-picture.png");
+    std::fs::write(&path, b"this is text").unwrap();
+    let e = Picture::load(&path).unwrap_err();
+    assert!(e.contains("cannot decode"), "{e}");
+
+    let e = Picture::load(&tmp("missing.png")).unwrap_err();
+    assert!(e.contains("cannot read"), "{e}");
+
+    // A PNG header claiming 60000 x 60000 texels (and no data): refused from
+    // the header, before anything that size is allocated.
+    let mut png = b"\x89PNG\r\n\x1a\n".to_vec();
+    let mut ihdr = b"IHDR".to_vec();
+    ihdr.extend(60_000u32.to_be_bytes());
+    ihdr.extend(60_000u32.to_be_bytes());
+    ihdr.extend([8, 6, 0, 0, 0]);
+    png.extend(13u32.to_be_bytes());
+    png.extend(&ihdr);
+    png.extend(crc32fast::hash(&ihdr).to_be_bytes());
+    let path = tmp("huge.png");
+    std::fs::write(&path, &png).unwrap();
+    let e = Picture::load(&path).unwrap_err();
+    assert!(e.contains("exceeds limit"), "{e}");
+
+    // Within the side limit but over the texel limit: refused with the sizes.
+    let path = tmp("big.png");
+    image::GrayImage::new(4096, 1100).save(&path).unwrap();
+    let e = Picture::load(&path).unwrap_err();
+    assert!(e.contains("4096x1100"), "{e}");
+}
