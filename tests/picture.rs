@@ -40,8 +40,8 @@ fn png_texels_decode_to_premultiplied_linear_light() {
         .unwrap();
     let t = Picture::load(&path).unwrap().texel(0, 0);
     let want = srgb_to_linear(40_000.0 / 65_535.0);
-    for c in 0..3 {
-        close(t[c], want, 1e-6, "grey");
+    for v in &t[..3] {
+        close(*v, want, 1e-6, "grey");
     }
     close(t[3], 1.0, 0.0, "opaque");
 }
