@@ -295,9 +295,9 @@ fn write_report(
 }
 
 /// Bytes handed to a [`Background`] writer's thread at a time.
-const BACKGROUND_CHUNK: usize = 1 << 20;
+const BACKGROUND_CHUNK: usize = 4 << 20;
 /// Chunks waiting for a [`Background`] writer's thread, at most.
-const BACKGROUND_QUEUE: usize = 4;
+const BACKGROUND_QUEUE: usize = 2;
 
 /// A writer whose bytes are written to `W` by a thread of its own, in
 /// chunks, in order: formatting and the operating system's copying of large

@@ -288,21 +288,20 @@ impl PropLights {
                     }
                 }
             },
-            Drawn::Image(painting) => self.paint(painting, show, beat, out),
+            Drawn::Image(painting) => self.paint(painting, beat, out),
         }
     }
 
     /// Each LED's colour from `painting` where it is at global beat `beat`
     /// (dark while the prop rests: it is in no plane).
-    fn paint(&self, painting: &Painting, show: &Show, beat: f64, out: &mut [[u8; 3]]) {
-        let _ = show;
+    fn paint(&self, painting: &Painting, beat: f64, out: &mut [[u8; 3]]) {
         let Some(i) = self.motion.span_at_beat(beat) else {
             out.fill([0, 0, 0]);
             return;
         };
         let span = &self.motion.spans[i];
         let s = beat - span.start_beat;
-        let hand = span.hand_jet(s).p;
+        let hand = span.hand.point(span.phase(s));
         let dir = span.direction(s);
         let turn = match painting.placement.fixed_to {
             FixedTo::Stage => 0.0,
