@@ -1,15 +1,27 @@
 //! Long-exposure previews: the photo of a passage before anyone spins.
 //!
-//! The pipeline, one concept per file: [`trail`] (the light each head gives
-//! off, frame by frame, cut into points along its path), [`camera`] (where
-//! each point lands and how large the glow looks there), [`splat`] (the
-//! sensor: Gaussian glows summed in linear light, in parallel and in a fixed
-//! order), [`tone`] (metering, highlight shoulder, sRGB encoding),
-//! [`overlay`] (the scale bar) and [`png`] (the file).
+//! The pipeline, one concept per file: [`trail`] (the light each LED gives
+//! off, frame by frame, cut into points along its own path, and streamed in
+//! chunks), [`camera`] (where each point lands and how large the glow looks
+//! there), [`splat`] (the sensor: Gaussian glows summed in linear light, in
+//! parallel and in a fixed order), [`tone`] (metering, highlight shoulder,
+//! sRGB encoding), [`overlay`] (the scale bar) and [`png`] (the file).
 //!
-//! Light is measured in LED-seconds: a head at full power in one primary
-//! for one second gives 1 (times its number of LEDs). The film holds that
-//! per pixel; the exposure gain turns it into linear picture values.
+//! Every LED is drawn where it is: at `hand + along_m * dir`, its signed
+//! distance from the grip along the prop (a poi head's LEDs all at the
+//! tether's end; a strip's spread along the tether or along a staff's two
+//! halves). LEDs at the same place share one path and their light is added.
+//! Painted pictures need nothing special here: each LED's bytes, frame by
+//! frame, already hold the picture's colour where it is.
+//!
+//! Light is measured in LED-seconds: an LED at full power in one primary
+//! for one second gives 1. The film holds that per pixel; the exposure gain
+//! turns it into linear picture values.
+//!
+//! A picture is made in passes over the frames, none of which keeps the
+//! points: a coarse one that finds where the light is (a running box and
+//! sum; a second for a pinhole's nearest depth), one that counts the points
+//! against [`trail::MAX_PIECES`], and the one that draws them chunk by chunk.
 
 pub mod camera;
 pub mod overlay;
