@@ -39,7 +39,7 @@ use crate::motion::{Curve, PropMotion, Span, TempoMap};
 /// The most points of light one picture may be made of (they are streamed,
 /// so this bounds the time, not the memory).
 pub const MAX_PIECES: u64 = 60_000_000;
-/// The most LED frames one exposure may span, per prop.
+/// The most frames one exposure may span.
 pub const MAX_FRAMES: u64 = 50_000_000;
 /// The most LED-frames (frames x LEDs, all props together) one exposure may
 /// span: a four-minute show of 144 LEDs at 1000 frames/s is 35 million.
@@ -127,12 +127,10 @@ fn frame_range(show: &Show, t0: f64, t1: f64) -> (u64, u64) {
 pub fn check_frames(show: &Show, t0: f64, t1: f64) -> Result<(), PreviewError> {
     let (k0, k1) = frame_range(show, t0, t1);
     let frames = k1 - k0;
-    if frames > MAX_FRAMES
-        && let Some(p) = show.props.first()
-    {
+    if frames > MAX_FRAMES {
         return Err(PreviewError::TooLarge(format!(
-            "the exposure spans {frames} frames of prop `{}`; at most {MAX_FRAMES} are rendered",
-            p.name
+            "the exposure spans {frames} frames; at most {MAX_FRAMES} are rendered: \
+             shorten the exposure (--bars, --exposure-s)"
         )));
     }
     let leds: u64 = show.props.iter().map(|p| u64::from(p.leds)).sum();
