@@ -143,8 +143,10 @@ pub struct Prop {
     /// Byte order of each LED's channels in the binary tables and C header.
     pub wire_order: crate::output::WireOrder,
     // Long-exposure previews (`preview`):
-    /// Standard deviation of the head's glow (diffuser and lens blur), millimetres.
-    pub glow_sigma_mm: f64,
+    /// Standard deviation of each LED's glow (diffuser and lens blur),
+    /// millimetres, as given; `None`: the preview picks one
+    /// (`preview::glow_sigma_m`: 12 mm for a head, from the LED pitch for a strip).
+    pub glow_sigma_mm: Option<f64>,
     /// PWM frequency of the LED driver, hertz; 0 for a constant-current driver.
     pub pwm_hz: f64,
     // LED current and battery (`check`):

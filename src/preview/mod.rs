@@ -1,15 +1,27 @@
 //! Long-exposure previews: the photo of a passage before anyone spins.
 //!
-//! The pipeline, one concept per file: [`trail`] (the light each head gives
-//! off, frame by frame, cut into points along its path), [`camera`] (where
-//! each point lands and how large the glow looks there), [`splat`] (the
-//! sensor: Gaussian glows summed in linear light, in parallel and in a fixed
-//! order), [`tone`] (metering, highlight shoulder, sRGB encoding),
-//! [`overlay`] (the scale bar) and [`png`] (the file).
+//! The pipeline, one concept per file: [`trail`] (the light each LED gives
+//! off, frame by frame, cut into points along its own path, and streamed in
+//! chunks), [`camera`] (where each point lands and how large the glow looks
+//! there), [`splat`] (the sensor: Gaussian glows summed in linear light, in
+//! parallel and in a fixed order), [`tone`] (metering, highlight shoulder,
+//! sRGB encoding), [`overlay`] (the scale bar) and [`png`] (the file).
 //!
-//! Light is measured in LED-seconds: a head at full power in one primary
-//! for one second gives 1 (times its number of LEDs). The film holds that
-//! per pixel; the exposure gain turns it into linear picture values.
+//! Every LED is drawn where it is: at `hand + along_m * dir`, its signed
+//! distance from the grip along the prop (a poi head's LEDs all at the
+//! tether's end; a strip's spread along the tether or along a staff's two
+//! halves). LEDs at the same place share one path and their light is added.
+//! Painted pictures need nothing special here: each LED's bytes, frame by
+//! frame, already hold the picture's colour where it is.
+//!
+//! Light is measured in LED-seconds: an LED at full power in one primary
+//! for one second gives 1. The film holds that per pixel; the exposure gain
+//! turns it into linear picture values.
+//!
+//! A picture is made in passes over the frames, none of which keeps the
+//! points: a coarse one that finds where the light is (a running box and
+//! sum; a second for a pinhole's nearest depth), one that counts the points
+//! against [`trail::MAX_PIECES`], and the one that draws them chunk by chunk.
 
 pub mod camera;
 pub mod overlay;
@@ -30,7 +42,7 @@ pub use splat::Film;
 
 use crate::colour;
 use crate::cues::Lights;
-use crate::model::Show;
+use crate::model::{Prop, Show};
 use crate::motion::PropMotion;
 
 /// Largest picture side, pixels.
@@ -187,27 +199,163 @@ const KERNEL_CHUNK: usize = 1 << 15;
 /// Spacing of the coarse pass that finds where the light is, metres.
 const SCOUT_SPACING_M: f64 = 0.02;
 
-/// The bounding box of `points` in screen coordinates of `view`, or `None`.
-fn screen_box(view: View, points: &[Vector3<f64>]) -> Option<([f64; 2], [f64; 2])> {
-    let mut it = points.iter().map(|p| view.screen(p));
-    let first = it.next()?;
-    Some(it.fold((first, first), |(lo, hi), q| {
-        (
-            [lo[0].min(q[0]), lo[1].min(q[1])],
-            [hi[0].max(q[0]), hi[1].max(q[1])],
-        )
-    }))
+/// Glow of a prop whose LEDs sit at its ends (a poi head), when the show
+/// gives none: standard deviation, millimetres (a diffused ball of about
+/// 50 mm photographed a few metres away).
+pub const HEAD_GLOW_SIGMA_MM: f64 = 12.0;
+
+/// Limits of the glow picked from a strip's LED pitch, millimetres: no
+/// smaller than a small LED package, no larger than a head's glow.
+pub const STRIP_GLOW_SIGMA_MM: (f64, f64) = (2.0, 12.0);
+
+/// The standard deviation of the glow of each of `prop`'s LEDs, metres: its
+/// `glow_sigma_mm` when given. Otherwise, when it has a strip of LEDs spread
+/// along it, half the spacing of neighbouring LEDs (the closest-spaced
+/// strip), kept within [`STRIP_GLOW_SIGMA_MM`]: Gaussians of standard
+/// deviation d / 2 set d apart add up to a line that is even to about 1.4 %
+/// (by the Poisson summation formula the ripple is 2 exp(-pi^2 / 2)), so a
+/// lit strip reads as one band and a painted picture has no gaps between
+/// the LEDs' tracks. Otherwise (a head) [`HEAD_GLOW_SIGMA_MM`].
+pub fn glow_sigma_m(prop: &Prop) -> f64 {
+    if let Some(mm) = prop.glow_sigma_mm {
+        return mm / 1000.0;
+    }
+    let pitch_m = prop
+        .strips
+        .iter()
+        .filter(|s| s.leds > 1 && s.to_m > s.from_m)
+        .map(|s| (s.to_m - s.from_m) / f64::from(s.leds - 1))
+        .fold(f64::INFINITY, f64::min);
+    if pitch_m.is_finite() {
+        let (lo, hi) = STRIP_GLOW_SIGMA_MM;
+        (0.5 * pitch_m * 1000.0).clamp(lo, hi) / 1000.0
+    } else {
+        HEAD_GLOW_SIGMA_MM / 1000.0
+    }
 }
 
-/// The camera for `opts`, fitted where needed to the lit points `lit`
-/// (or to all head positions `all` when nothing is lit).
+/// What the coarse pass learns of the light: the box it fills on the
+/// view's screen and the sum of its positions, in the order they come.
+#[derive(Clone, Debug)]
+struct Cloud {
+    view: View,
+    lo: [f64; 2],
+    hi: [f64; 2],
+    sum: Vector3<f64>,
+    n: usize,
+}
+
+impl Cloud {
+    fn new(view: View) -> Self {
+        Cloud {
+            view,
+            lo: [0.0; 2],
+            hi: [0.0; 2],
+            sum: Vector3::zeros(),
+            n: 0,
+        }
+    }
+
+    fn add(&mut self, p: &Vector3<f64>) {
+        let q = self.view.screen(p);
+        if self.n == 0 {
+            (self.lo, self.hi) = (q, q);
+        } else {
+            self.lo = [self.lo[0].min(q[0]), self.lo[1].min(q[1])];
+            self.hi = [self.hi[0].max(q[0]), self.hi[1].max(q[1])];
+        }
+        self.sum += p;
+        self.n += 1;
+    }
+
+    /// The bounding box on the screen, or `None` when empty.
+    fn screen_box(&self) -> Option<([f64; 2], [f64; 2])> {
+        (self.n > 0).then_some((self.lo, self.hi))
+    }
+
+    /// The mean position (the origin when empty).
+    fn centre(&self) -> Vector3<f64> {
+        self.sum / self.n.max(1) as f64
+    }
+}
+
+/// Where the lit LEDs go in the exposure (coarsely), or, when nothing is
+/// lit, where each prop's ends are halfway through it.
+fn scout(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    view: View,
+    (t0, t1): (f64, f64),
+) -> Result<Cloud, PreviewError> {
+    let mut lit = Cloud::new(view);
+    trail::for_each_chunk(
+        show,
+        motions,
+        lights,
+        t0,
+        t1,
+        &|_| SCOUT_SPACING_M,
+        KERNEL_CHUNK,
+        trail::MAX_PIECES,
+        &mut |chunk| {
+            chunk.iter().for_each(|p| lit.add(&p.pos));
+            Ok(())
+        },
+    )?;
+    if lit.n > 0 {
+        return Ok(lit);
+    }
+    let mut all = Cloud::new(view);
+    for m in motions {
+        let st = m.state_at(&show.tempo, 0.5 * (t0 + t1));
+        all.add(&st.head_m);
+        let prop = &show.props[m.prop];
+        for &end in prop.ends_m().iter().skip(1) {
+            all.add(&(st.hand_m + st.dir * end));
+        }
+    }
+    Ok(all)
+}
+
+/// The nearest depth in front of `cam` of the lit LEDs (coarsely), metres,
+/// or infinity when nothing lit is in front.
+fn nearest_depth(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    cam: &Camera,
+    (t0, t1): (f64, f64),
+) -> Result<f64, PreviewError> {
+    let mut near = f64::INFINITY;
+    trail::for_each_chunk(
+        show,
+        motions,
+        lights,
+        t0,
+        t1,
+        &|_| SCOUT_SPACING_M,
+        KERNEL_CHUNK,
+        trail::MAX_PIECES,
+        &mut |chunk| {
+            near = chunk
+                .iter()
+                .filter_map(|p| cam.depth(&p.pos))
+                .filter(|&z| z >= camera::NEAR_M)
+                .fold(near, f64::min);
+            Ok(())
+        },
+    )?;
+    Ok(near)
+}
+
+/// The camera for `opts`, fitted where needed to `cloud` (the lit points,
+/// or the props' ends when nothing is lit).
 fn make_camera(
     show: &Show,
     opts: &PreviewOptions,
-    lit: &[Vector3<f64>],
-    all: &[Vector3<f64>],
+    cloud: Option<&Cloud>,
 ) -> Result<Camera, PreviewError> {
-    let points = if lit.is_empty() { all } else { lit };
     if let Some(ph) = opts.pinhole {
         if opts.viewport.is_some() || opts.scale_bar {
             return Err(PreviewError::Options(
@@ -216,10 +364,9 @@ fn make_camera(
         }
         let (w, h) = opts.size.unwrap_or(DEFAULT_SIZE);
         check_size(w, h)?;
-        let target = ph.look_at_m.unwrap_or_else(|| {
-            let n = points.len().max(1) as f64;
-            points.iter().fold(Vector3::zeros(), |a, p| a + p) / n
-        });
+        let target = ph
+            .look_at_m
+            .unwrap_or_else(|| cloud.map_or_else(Vector3::zeros, Cloud::centre));
         return Camera::pinhole(ph.eye_m, target, ph.fov_deg, w, h).ok_or_else(|| {
             PreviewError::Options(format!(
                 "the camera at {:?} cannot look at {:?} with a field of view of {} degrees \
@@ -246,12 +393,10 @@ fn make_camera(
     }
     let (w, h) = opts.size.unwrap_or(DEFAULT_SIZE);
     check_size(w, h)?;
-    let glow_m = show
-        .props
-        .iter()
-        .map(|p| p.glow_sigma_mm / 1000.0)
-        .fold(0.0, f64::max);
-    let (lo, hi) = screen_box(opts.view, points).unwrap_or(([-1.0, 0.0], [1.0, 2.0]));
+    let glow_m = show.props.iter().map(glow_sigma_m).fold(0.0, f64::max);
+    let (lo, hi) = cloud
+        .and_then(Cloud::screen_box)
+        .unwrap_or(([-1.0, 0.0], [1.0, 2.0]));
     let extent = (hi[0] - lo[0]).max(hi[1] - lo[1]);
     let margin = 4.0 * glow_m + 0.08 * extent + 0.05;
     Ok(Camera::ortho(
@@ -262,8 +407,13 @@ fn make_camera(
     ))
 }
 
-/// Exposes the film: every head's light in the shutter window of `opts`,
+/// Exposes the film: every LED's light in the shutter window of `opts`,
 /// seen by its camera. `progress(done, total)` is called as the work goes.
+///
+/// The points of light are counted first (refused beyond
+/// [`trail::MAX_PIECES`]), then made, turned into glows and added to the
+/// film chunk by chunk, in one fixed order: the memory does not grow with
+/// the exposure, and the picture does not depend on the number of threads.
 pub fn shoot(
     show: &Show,
     motions: &[PropMotion],
@@ -278,62 +428,67 @@ pub fn shoot(
             opts.ev_stops
         )));
     }
+    trail::check_frames(show, t0, t1)?;
     let needs_scout = opts.viewport.is_none() || opts.pinhole.is_some();
-    let (lit, all) = if needs_scout {
-        let scout = trail::pieces(show, motions, lights, t0, t1, &|_| SCOUT_SPACING_M)?;
-        let lit: Vec<Vector3<f64>> = scout.iter().map(|p| p.pos).collect();
-        let all: Vec<Vector3<f64>> = if lit.is_empty() {
-            motions
-                .iter()
-                .map(|m| m.state_at(&show.tempo, 0.5 * (t0 + t1)).head_m)
-                .collect()
-        } else {
-            Vec::new()
-        };
-        (lit, all)
+    let cloud = if needs_scout {
+        Some(scout(show, motions, lights, opts.view, (t0, t1))?)
     } else {
-        (Vec::new(), Vec::new())
+        None
     };
-    let cam = make_camera(show, opts, &lit, &all)?;
+    let cam = make_camera(show, opts, cloud.as_ref())?;
     // The nearest lit depth sets the finest pixel scale of a pinhole photo.
-    let near = lit
-        .iter()
-        .filter_map(|p| cam.depth(p))
-        .filter(|&z| z >= camera::NEAR_M)
-        .fold(f64::INFINITY, f64::min);
+    let near = if opts.pinhole.is_some() {
+        nearest_depth(show, motions, lights, &cam, (t0, t1))?
+    } else {
+        f64::INFINITY
+    };
     let (sx, sy) = cam.pixels_per_m(if near.is_finite() { near } else { 1.0 });
     let px_m = 1.0 / sx.max(sy);
+    let glows: Vec<f64> = show.props.iter().map(glow_sigma_m).collect();
     let spacing = |p: usize| {
-        let g = show.props[p].glow_sigma_mm / 1000.0;
+        let g = glows[p];
         let blur = splat::MIN_BLUR_PX * px_m;
         (g * g + blur * blur).sqrt()
     };
-    let pieces = trail::pieces(show, motions, lights, t0, t1, &spacing)?;
+    let total = trail::count(show, motions, lights, t0, t1, &spacing, trail::MAX_PIECES)?;
     // Glows are made and added in chunks, in order, to bound the memory.
     let (w, h) = (cam.width, cam.height);
     let mut film = Film::new(w, h);
-    let chunks = pieces.len().div_ceil(KERNEL_CHUNK).max(1) as u64;
-    for (i, chunk) in pieces.chunks(KERNEL_CHUNK).enumerate() {
-        let kernels: Vec<splat::Kernel> = chunk
-            .par_iter()
-            .filter_map(|p| {
-                let q = cam.project(&p.pos)?;
-                let g = show.props[p.prop].glow_sigma_mm / 1000.0;
-                let e = p.energy.map(|v| (v * q.gain) as f32);
-                splat::kernel(q.px, q.py, g * q.scale_x, g * q.scale_y, e, w, h)
-            })
-            .collect();
-        splat::accumulate_into(&mut film, &kernels, &|done, bands| {
-            progress(i as u64 * bands + done, chunks * bands)
-        });
-    }
+    let mut done: u64 = 0;
+    let made = trail::for_each_chunk(
+        show,
+        motions,
+        lights,
+        t0,
+        t1,
+        &spacing,
+        KERNEL_CHUNK,
+        trail::MAX_PIECES,
+        &mut |chunk| {
+            let kernels: Vec<splat::Kernel> = chunk
+                .par_iter()
+                .filter_map(|p| {
+                    let q = cam.project(&p.pos)?;
+                    let g = glows[p.prop];
+                    let e = p.energy.map(|v| (v * q.gain) as f32);
+                    splat::kernel(q.px, q.py, g * q.scale_x, g * q.scale_y, e, w, h)
+                })
+                .collect();
+            let n = chunk.len() as u64;
+            splat::accumulate_into(&mut film, &kernels, &|d, bands| {
+                progress(done + n * d / bands.max(1), total.max(1))
+            });
+            done += n;
+            Ok(())
+        },
+    )?;
     let gain = tone::metered_gain(film.max(), opts.ev_stops);
     Ok(Photo {
         film,
         camera: cam,
         window_s: (t0, t1),
         gain,
-        pieces: pieces.len(),
+        pieces: made as usize,
     })
 }
 

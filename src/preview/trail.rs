@@ -1,47 +1,99 @@
-//! The light a head gives off while the shutter is open, as short pieces of
-//! its path.
+//! The light the LEDs give off while the shutter is open, as points along
+//! their paths, produced in chunks.
 //!
-//! An LED holds its colour for a whole frame while the head moves on, so
-//! the light of a frame is spread along the stretch of path the head covers
-//! in it. The emission is cut into pieces of constant colour (frames of the
-//! same colour are merged; section boundaries and PWM edges cut them), and
-//! each piece is cut again into equal steps of time short enough that the
-//! head moves less than a given spacing in one step. Each step becomes a
-//! point of light at the head's position at the step's middle instant,
-//! carrying colour x time: a slow head gets more steps per metre, so the
-//! light per unit length is proportional to the time spent there.
+//! Every LED sits at a signed distance from the grip along the prop's
+//! direction (`model::LedSpot::along_m`) and traces its own path: the hand's
+//! path plus that distance along the prop. LEDs at the same distance (all
+//! the LEDs of a plain poi head) trace the same path and are drawn as one
+//! [`Spot`] carrying their summed light.
+//!
+//! An LED holds its colour for a whole frame while the prop moves on, so
+//! the light of a frame is spread along the stretch of path the spot covers
+//! in it. Each spot's emission is cut into runs of constant LED bytes
+//! (frames of the same bytes are merged; section boundaries and PWM edges
+//! cut them), and each run is cut again into equal steps of time short
+//! enough that the spot moves less than a given spacing in one step (the
+//! speed bound is that of the spot's own path). Each step becomes a point
+//! of light at the spot's position at the step's middle instant, carrying
+//! colour x time: a slow spot gets more steps per metre, so the light per
+//! unit length is proportional to the time spent there.
+//!
+//! Nothing holds all the points: frames are computed in blocks, runs are
+//! closed as the frames go by, and points are handed on in chunks, in one
+//! fixed order (prop by prop; within a prop, runs in the order they end,
+//! spots of the same frame in spot order; steps in time order). [`count`]
+//! walks the same way without making points, so the point budget is
+//! checked before any picture is made.
 
+use std::collections::HashMap;
 use std::f64::consts::TAU;
 
 use nalgebra::Vector3;
+use rayon::prelude::*;
 
 use super::PreviewError;
 use crate::cues::Lights;
-use crate::model::Show;
-use crate::motion::{PropMotion, Span, TempoMap};
+use crate::model::{Prop, Show};
+use crate::motion::{Curve, PropMotion, Span, TempoMap};
 
-/// The most points of light one picture may be made of.
-pub const MAX_PIECES: usize = 8_000_000;
-/// The most LED frames one exposure may span, per prop.
+/// The most points of light one picture may be made of (they are streamed,
+/// so this bounds the time, not the memory).
+pub const MAX_PIECES: u64 = 60_000_000;
+/// The most frames one exposure may span.
 pub const MAX_FRAMES: u64 = 50_000_000;
+/// The most LED-frames (frames x LEDs, all props together) one exposure may
+/// span: a four-minute show of 144 LEDs at 1000 frames/s is 35 million.
+pub const MAX_LED_FRAMES: u64 = 250_000_000;
+/// Frames computed at a time (in parallel) while walking the trails.
+const BLOCK_FRAMES: u64 = 1024;
 
 /// A point of light: where, and how much of each primary.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Piece {
     /// Index into [`Show::props`].
     pub prop: usize,
-    /// Head position at the middle of the piece, stage coordinates, metres.
+    /// Signed distance from the grip of the LEDs it comes from, metres.
+    pub along_m: f64,
+    /// Their position at the middle of the piece, stage coordinates, metres.
     pub pos: Vector3<f64>,
-    /// Light given off, linear sRGB primaries, in LED-seconds (a head at full
-    /// power in one primary for one second gives 1 per LED).
+    /// Light given off, linear sRGB primaries, in LED-seconds (an LED at full
+    /// power in one primary for one second gives 1).
     pub energy: [f64; 3],
 }
 
-/// Upper bound of the head's speed in a span, m/s (sum of the rotating
-/// terms' speeds at the fastest tempo of the span).
-pub fn speed_bound(span: &Span, tempo: &TempoMap) -> f64 {
-    let per_rev: f64 = span
-        .head
+/// LEDs that sit at the same place on a prop: they trace one path.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Spot {
+    /// Signed distance from the grip along the prop's direction, metres.
+    pub along_m: f64,
+    /// The LEDs there, indices in table order.
+    pub leds: Vec<usize>,
+}
+
+/// The prop's LEDs grouped by where they sit, in the order of each group's
+/// first LED.
+pub fn spots(prop: &Prop) -> Vec<Spot> {
+    let mut out: Vec<Spot> = Vec::new();
+    let mut index: HashMap<u64, usize> = HashMap::new();
+    for (i, s) in prop.led_spots().iter().enumerate() {
+        // + 0.0 folds -0.0 (the grip, counted on the tail half) into 0.0.
+        let along = s.along_m + 0.0;
+        let k = *index.entry(along.to_bits()).or_insert_with(|| {
+            out.push(Spot {
+                along_m: along,
+                leds: Vec::new(),
+            });
+            out.len() - 1
+        });
+        out[k].leds.push(i);
+    }
+    out
+}
+
+/// Upper bound of the speed of a point following `path` in `span`, m/s: the
+/// sum of the rotating terms' speeds at the fastest tempo of the span.
+pub fn speed_bound(path: &Curve, span: &Span, tempo: &TempoMap) -> f64 {
+    let per_rev: f64 = path
         .rotors()
         .iter()
         .map(|r| r.radius_m * TAU * r.turns.abs())
@@ -55,56 +107,463 @@ pub fn speed_bound(span: &Span, tempo: &TempoMap) -> f64 {
     per_rev * span.phase_per_beat().abs() * bpm / 60.0
 }
 
-/// One stretch of time in which a prop's LEDs emit a constant amount.
-struct Run {
-    a: f64,
-    b: f64,
-    bytes: [u8; 3],
+fn too_many() -> PreviewError {
+    PreviewError::TooLarge(format!(
+        "the picture would need more than {MAX_PIECES} points of light; \
+         shorten the exposure, lower --size or raise the props' glow_sigma_mm"
+    ))
 }
 
-/// The runs of constant LED bytes of prop `p` in [t0, t1), dark ones left out.
-fn runs(
-    show: &Show,
-    lights: &Lights,
-    p: usize,
-    t0: f64,
-    t1: f64,
-) -> Result<Vec<Run>, PreviewError> {
+/// Frames `k0 .. k1` of the show that overlap the exposure [t0, t1).
+fn frame_range(show: &Show, t0: f64, t1: f64) -> (u64, u64) {
     let rate = f64::from(show.frame_rate_hz);
     let k0 = (t0 * rate).floor().max(0.0) as u64;
     let k1 = (t1 * rate).ceil().max(0.0) as u64;
-    if k1.saturating_sub(k0) > MAX_FRAMES {
-        return Err(PreviewError::TooLarge(format!(
-            "the exposure spans {} frames of prop `{}`; at most {MAX_FRAMES} are rendered",
-            k1 - k0,
-            show.props[p].name
-        )));
-    }
-    let Some(pl) = lights.props.get(p) else {
-        return Ok(Vec::new());
-    };
-    let mut out: Vec<Run> = Vec::new();
-    let mut frame = vec![[0u8; 3]; pl.leds as usize];
-    for k in k0..k1 {
-        let a = (k as f64 / rate).max(t0);
-        let b = ((k + 1) as f64 / rate).min(t1);
-        if b <= a {
-            continue;
-        }
-        pl.fill_frame(show, k, &mut frame);
-        let bytes = frame[0];
-        match out.last_mut() {
-            Some(last) if last.bytes == bytes && last.b == a => last.b = b,
-            _ => out.push(Run { a, b, bytes }),
-        }
-    }
-    out.retain(|r| r.bytes != [0, 0, 0]);
-    Ok(out)
+    (k0, k1.max(k0))
 }
 
-/// Every point of light of every prop in the exposure [t0, t1) seconds, in
-/// prop order then time order. `spacing_m(p)` is the largest distance the
-/// head of prop `p` may move within one point's time, metres.
+/// Refuses an exposure that spans too many frames (per prop) or LED-frames
+/// (all props), before any of them is computed.
+pub fn check_frames(show: &Show, t0: f64, t1: f64) -> Result<(), PreviewError> {
+    let (k0, k1) = frame_range(show, t0, t1);
+    let frames = k1 - k0;
+    if frames > MAX_FRAMES {
+        return Err(PreviewError::TooLarge(format!(
+            "the exposure spans {frames} frames; at most {MAX_FRAMES} are rendered: \
+             shorten the exposure (--bars, --exposure-s)"
+        )));
+    }
+    let leds: u64 = show.props.iter().map(|p| u64::from(p.leds)).sum();
+    let led_frames = frames.saturating_mul(leds);
+    if led_frames > MAX_LED_FRAMES {
+        return Err(PreviewError::TooLarge(format!(
+            "the exposure spans {frames} frames of {leds} LEDs in all ({led_frames} LED-frames); \
+             at most {MAX_LED_FRAMES} are rendered: shorten the exposure (--bars, --exposure-s)"
+        )));
+    }
+    Ok(())
+}
+
+/// A stretch of one spot's emission of constant light, to be cut into
+/// `steps` points of equal time.
+#[derive(Clone, Copy, Debug)]
+struct Segment {
+    prop: usize,
+    along_m: f64,
+    /// True for the spot at the head end (drawn on the span's head curve).
+    head: bool,
+    a: f64,
+    b: f64,
+    steps: u64,
+    /// Light per second, linear primaries, LED units.
+    level: [f64; 3],
+}
+
+/// One spot as the walk sees it.
+struct SpotInfo {
+    along_m: f64,
+    leds: Vec<usize>,
+    /// True for the spot at the head end (drawn on the span's head curve).
+    head: bool,
+}
+
+/// The span whose speed bound is cached, and the bound, m/s.
+type SpeedCache = Option<(usize, f64)>;
+
+/// What the walk keeps of one spot.
+struct SpotWalk {
+    info: SpotInfo,
+    /// The run being built: its start and end, seconds.
+    open: Option<(f64, f64)>,
+    speed: SpeedCache,
+}
+
+/// Walks every prop's emission in the exposure [t0, t1) and hands each
+/// [`Segment`] to `sink`, in the fixed order of the module docs.
+fn walk(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    t0: f64,
+    t1: f64,
+    spacing_m: &dyn Fn(usize) -> f64,
+    sink: &mut dyn FnMut(&Segment) -> Result<(), PreviewError>,
+) -> Result<(), PreviewError> {
+    check_frames(show, t0, t1)?;
+    for (p, motion) in motions.iter().enumerate() {
+        walk_prop(show, motion, lights, t0, t1, spacing_m(p), sink)?;
+    }
+    Ok(())
+}
+
+fn walk_prop(
+    show: &Show,
+    motion: &PropMotion,
+    lights: &Lights,
+    t0: f64,
+    t1: f64,
+    spacing_m: f64,
+    sink: &mut dyn FnMut(&Segment) -> Result<(), PreviewError>,
+) -> Result<(), PreviewError> {
+    let p = motion.prop;
+    let prop = &show.props[p];
+    let Some(pl) = lights.props.get(p) else {
+        return Ok(());
+    };
+    let leds = pl.leds as usize;
+    if leds == 0 {
+        return Ok(());
+    }
+    let rate = f64::from(show.frame_rate_hz);
+    let (k0, k1) = frame_range(show, t0, t1);
+    let mut spots: Vec<SpotWalk> = spots(prop)
+        .into_iter()
+        .map(|s| SpotWalk {
+            info: SpotInfo {
+                head: s.along_m == prop.tether_m,
+                along_m: s.along_m,
+                leds: s.leds,
+            },
+            open: None,
+            speed: None,
+        })
+        .collect();
+    let cutter = Cutter {
+        show,
+        motion,
+        prop,
+        bounds: motion
+            .spans
+            .iter()
+            .flat_map(|s| [s.start_s, s.end_s])
+            .collect(),
+        spacing_m,
+    };
+    let mut run_bytes = vec![[0u8; 3]; leds];
+    let mut block: Vec<[u8; 3]> = Vec::new();
+    let mut duties: Vec<f64> = Vec::new();
+    let mut kb = k0;
+    while kb < k1 {
+        let n = BLOCK_FRAMES.min(k1 - kb) as usize;
+        block.resize(n * leds, [0, 0, 0]);
+        block
+            .par_chunks_mut(leds)
+            .with_min_len(16)
+            .enumerate()
+            .for_each(|(j, frame)| pl.fill_frame(show, kb + j as u64, frame));
+        for (j, frame) in block.chunks(leds).enumerate() {
+            let k = kb + j as u64;
+            let a = (k as f64 / rate).max(t0);
+            let b = ((k + 1) as f64 / rate).min(t1);
+            if b <= a {
+                continue;
+            }
+            for spot in &mut spots {
+                let same = matches!(spot.open, Some((_, end)) if end == a)
+                    && spot.info.leds.iter().all(|&l| frame[l] == run_bytes[l]);
+                if same {
+                    if let Some(run) = spot.open.as_mut() {
+                        run.1 = b;
+                    }
+                    continue;
+                }
+                if let Some((ra, rb)) = spot.open {
+                    let s = &mut spot.speed;
+                    cutter.close(&spot.info, s, ra, rb, &run_bytes, &mut duties, sink)?;
+                }
+                spot.open = Some((a, b));
+                for &l in &spot.info.leds {
+                    run_bytes[l] = frame[l];
+                }
+            }
+        }
+        kb += n as u64;
+    }
+    for spot in &mut spots {
+        if let Some((ra, rb)) = spot.open.take() {
+            let s = &mut spot.speed;
+            cutter.close(&spot.info, s, ra, rb, &run_bytes, &mut duties, sink)?;
+        }
+    }
+    Ok(())
+}
+
+/// Cuts the runs of one prop into segments.
+struct Cutter<'a> {
+    show: &'a Show,
+    motion: &'a PropMotion,
+    prop: &'a Prop,
+    /// Section starts and ends, seconds, in time order.
+    bounds: Vec<f64>,
+    spacing_m: f64,
+}
+
+impl Cutter<'_> {
+    /// Cuts the run [a, b) of `spot` (whose LEDs show `bytes`) at section
+    /// boundaries and PWM edges and hands the lit pieces to `sink`.
+    #[allow(clippy::too_many_arguments)]
+    fn close(
+        &self,
+        spot: &SpotInfo,
+        speed: &mut SpeedCache,
+        a: f64,
+        b: f64,
+        bytes: &[[u8; 3]],
+        duties: &mut Vec<f64>,
+        sink: &mut dyn FnMut(&Segment) -> Result<(), PreviewError>,
+    ) -> Result<(), PreviewError> {
+        let lit = || spot.leds.iter().map(|&l| bytes[l]);
+        if lit().all(|c| c == [0, 0, 0]) {
+            return Ok(());
+        }
+        let first = bytes[spot.leds[0]];
+        let uniform = lit().all(|c| c == first);
+        let n = spot.leds.len() as f64;
+        let duty = |c: [u8; 3]| c.map(|v| f64::from(v) / 255.0);
+        let pwm = self.prop.pwm_hz > 0.0 && lit().flatten().any(|v| v > 0 && v < 255);
+        // Light per second outside PWM: the LEDs' duties summed (n times the
+        // one duty when they all show the same bytes).
+        let steady = if uniform {
+            duty(first).map(|d| d * n)
+        } else {
+            lit()
+                .map(duty)
+                .fold([0.0; 3], |s, d| [s[0] + d[0], s[1] + d[1], s[2] + d[2]])
+        };
+        duties.clear();
+        if pwm {
+            duties.extend(
+                lit()
+                    .flatten()
+                    .filter(|&v| v > 0 && v < 255)
+                    .map(|v| f64::from(v) / 255.0),
+            );
+            duties.sort_by(f64::total_cmp);
+            duties.dedup();
+        }
+        let period = if pwm { 1.0 / self.prop.pwm_hz } else { 0.0 };
+        let level_at = |mid: f64| {
+            if pwm {
+                let phase = mid / period - (mid / period).floor();
+                let mut on = [0.0; 3];
+                for c in lit() {
+                    for (o, d) in on.iter_mut().zip(duty(c)) {
+                        if phase < d {
+                            *o += 1.0;
+                        }
+                    }
+                }
+                on
+            } else {
+                steady
+            }
+        };
+        // The cut instants in increasing order: section boundaries inside
+        // the run, merged with PWM period starts and duty ends.
+        let mut bi = self.bounds.partition_point(|&t| t <= a);
+        let mut prev = a;
+        let mut cut = |t: f64| -> Result<(), PreviewError> {
+            if t <= prev {
+                return Ok(());
+            }
+            let (sa, sb) = (prev, t);
+            prev = t;
+            let level = level_at(0.5 * (sa + sb));
+            self.segment(spot, speed, sa, sb, level, sink)
+        };
+        let mut to = |t: f64| -> Result<(), PreviewError> {
+            while bi < self.bounds.len() && self.bounds[bi] < t.min(b) {
+                cut(self.bounds[bi])?;
+                bi += 1;
+            }
+            if t < b { cut(t) } else { Ok(()) }
+        };
+        if pwm {
+            let mut k = (a / period).floor();
+            let k_end = (b / period).ceil();
+            while k <= k_end {
+                let start = k * period;
+                to(start)?;
+                for &d in duties.iter() {
+                    to(start + d * period)?;
+                }
+                k += 1.0;
+            }
+        }
+        to(b)?;
+        cut(b)
+    }
+
+    /// Hands the segment [a, b) of `spot` at `level` to `sink`, with its
+    /// number of steps from the speed bound of the spot's path.
+    #[allow(clippy::too_many_arguments)]
+    fn segment(
+        &self,
+        spot: &SpotInfo,
+        speed: &mut SpeedCache,
+        a: f64,
+        b: f64,
+        level: [f64; 3],
+        sink: &mut dyn FnMut(&Segment) -> Result<(), PreviewError>,
+    ) -> Result<(), PreviewError> {
+        if level == [0.0; 3] {
+            return Ok(());
+        }
+        let tempo = &self.show.tempo;
+        let mid = 0.5 * (a + b);
+        let vmax = match self.motion.span_at_beat(tempo.beat_at_time(mid)) {
+            Some(i) => match *speed {
+                Some((j, v)) if j == i => v,
+                _ => {
+                    let span = &self.motion.spans[i];
+                    let v = if spot.head {
+                        speed_bound(&span.head, span, tempo)
+                    } else {
+                        speed_bound(&span.point_curve(spot.along_m), span, tempo)
+                    };
+                    *speed = Some((i, v));
+                    v
+                }
+            },
+            None => 0.0,
+        };
+        let steps = if vmax > 0.0 {
+            ((b - a) * vmax / self.spacing_m).ceil().max(1.0)
+        } else {
+            1.0
+        };
+        sink(&Segment {
+            prop: self.motion.prop,
+            along_m: spot.along_m,
+            head: spot.head,
+            a,
+            b,
+            // Saturates for absurd counts, which the budget then refuses.
+            steps: steps as u64,
+            level,
+        })
+    }
+}
+
+/// Where the LEDs `along_m` from the grip of `motion`'s prop are at `t`
+/// seconds, stage coordinates; `head` is true for the head end, drawn on
+/// the span's head curve.
+fn position(show: &Show, motion: &PropMotion, along_m: f64, head: bool, t: f64) -> Vector3<f64> {
+    let beat = show.tempo.beat_at_time(t);
+    match motion.span_at_beat(beat) {
+        Some(i) => {
+            let span = &motion.spans[i];
+            let u = span.phase(beat - span.start_beat);
+            if head {
+                span.to_stage(span.head.point(u))
+            } else {
+                let h = span.hand.point(u);
+                let d = span.direction(beat - span.start_beat);
+                span.to_stage([h[0] + along_m * d[0], h[1] + along_m * d[1]])
+            }
+        }
+        // Resting: hand at the anchor, the prop hanging straight down.
+        None => show.props[motion.prop].anchor_m - Vector3::new(0.0, along_m, 0.0),
+    }
+}
+
+/// The number of points of light of the exposure [t0, t1) with the
+/// spacings `spacing_m(p)` (see [`for_each_chunk`]), without making them;
+/// an error as soon as it passes `limit`.
+pub fn count(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    t0: f64,
+    t1: f64,
+    spacing_m: &dyn Fn(usize) -> f64,
+    limit: u64,
+) -> Result<u64, PreviewError> {
+    let mut total: u64 = 0;
+    walk(show, motions, lights, t0, t1, spacing_m, &mut |s| {
+        total = total.saturating_add(s.steps);
+        if total > limit {
+            return Err(too_many());
+        }
+        Ok(())
+    })?;
+    Ok(total)
+}
+
+/// A point before its position is known.
+#[derive(Clone, Copy)]
+struct Step {
+    prop: usize,
+    along_m: f64,
+    head: bool,
+    t: f64,
+    energy: [f64; 3],
+}
+
+/// Every point of light of every prop in the exposure [t0, t1) seconds,
+/// handed to `f` in chunks of at most `chunk` points, in the module's fixed
+/// order. `spacing_m(p)` is the largest distance an LED of prop `p` may
+/// move within one point's time, metres. Stops with an error when more than
+/// `limit` points would be made (before making them) or when `f` fails.
+/// Returns the number of points made.
+#[allow(clippy::too_many_arguments)]
+pub fn for_each_chunk(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    t0: f64,
+    t1: f64,
+    spacing_m: &dyn Fn(usize) -> f64,
+    chunk: usize,
+    limit: u64,
+    f: &mut dyn FnMut(&[Piece]) -> Result<(), PreviewError>,
+) -> Result<u64, PreviewError> {
+    let chunk = chunk.max(1);
+    let mut steps: Vec<Step> = Vec::with_capacity(chunk);
+    let mut pieces: Vec<Piece> = Vec::with_capacity(chunk);
+    let mut total: u64 = 0;
+    let mut flush = |steps: &mut Vec<Step>| -> Result<(), PreviewError> {
+        steps
+            .par_iter()
+            .map(|s| Piece {
+                prop: s.prop,
+                along_m: s.along_m,
+                pos: position(show, &motions[s.prop], s.along_m, s.head, s.t),
+                energy: s.energy,
+            })
+            .collect_into_vec(&mut pieces);
+        steps.clear();
+        f(&pieces)
+    };
+    walk(show, motions, lights, t0, t1, spacing_m, &mut |s| {
+        total = total.saturating_add(s.steps);
+        if total > limit {
+            return Err(too_many());
+        }
+        let dt = (s.b - s.a) / s.steps as f64;
+        let energy = s.level.map(|l| l * dt);
+        for i in 0..s.steps {
+            steps.push(Step {
+                prop: s.prop,
+                along_m: s.along_m,
+                head: s.head,
+                t: s.a + (i as f64 + 0.5) * dt,
+                energy,
+            });
+            if steps.len() == chunk {
+                flush(&mut steps)?;
+            }
+        }
+        Ok(())
+    })?;
+    if !steps.is_empty() {
+        flush(&mut steps)?;
+    }
+    Ok(total)
+}
+
+/// Every point of light of the exposure, collected (for small exposures
+/// and tests; the renderer streams them with [`for_each_chunk`]).
 pub fn pieces(
     show: &Show,
     motions: &[PropMotion],
@@ -113,112 +572,21 @@ pub fn pieces(
     t1: f64,
     spacing_m: &dyn Fn(usize) -> f64,
 ) -> Result<Vec<Piece>, PreviewError> {
-    let mut out = Vec::new();
-    for (p, motion) in motions.iter().enumerate() {
-        prop_pieces(show, motion, lights, t0, t1, spacing_m(p), &mut out)?;
-    }
+    let n = count(show, motions, lights, t0, t1, spacing_m, MAX_PIECES)?;
+    let mut out = Vec::with_capacity(n as usize);
+    for_each_chunk(
+        show,
+        motions,
+        lights,
+        t0,
+        t1,
+        spacing_m,
+        1 << 15,
+        MAX_PIECES,
+        &mut |c| {
+            out.extend_from_slice(c);
+            Ok(())
+        },
+    )?;
     Ok(out)
-}
-
-fn too_many() -> PreviewError {
-    PreviewError::TooLarge(format!(
-        "the picture would need more than {MAX_PIECES} points of light; \
-         shorten the exposure, lower --size or raise the props' glow_sigma_mm"
-    ))
-}
-
-fn prop_pieces(
-    show: &Show,
-    motion: &PropMotion,
-    lights: &Lights,
-    t0: f64,
-    t1: f64,
-    spacing_m: f64,
-    out: &mut Vec<Piece>,
-) -> Result<(), PreviewError> {
-    let p = motion.prop;
-    let prop = &show.props[p];
-    let leds = f64::from(prop.leds);
-    let bounds: Vec<f64> = motion
-        .spans
-        .iter()
-        .flat_map(|s| [s.start_s, s.end_s])
-        .collect();
-    let speeds: Vec<f64> = motion
-        .spans
-        .iter()
-        .map(|s| speed_bound(s, &show.tempo))
-        .collect();
-    let mut cuts: Vec<f64> = Vec::new();
-    for run in runs(show, lights, p, t0, t1)? {
-        // Cut at section boundaries (the head's path restarts there) and at
-        // the LED driver's PWM edges.
-        cuts.clear();
-        cuts.push(run.a);
-        cuts.extend(bounds.iter().copied().filter(|&t| t > run.a && t < run.b));
-        let duty = run.bytes.map(|b| f64::from(b) / 255.0);
-        let pwm = prop.pwm_hz > 0.0 && duty.iter().any(|&d| d > 0.0 && d < 1.0);
-        if pwm {
-            let period = 1.0 / prop.pwm_hz;
-            let n0 = (run.a / period).floor();
-            let n1 = (run.b / period).ceil();
-            if (n1 - n0) * 4.0 + out.len() as f64 > MAX_PIECES as f64 {
-                return Err(too_many());
-            }
-            let mut n = n0;
-            while n <= n1 {
-                let start = n * period;
-                cuts.push(start);
-                for d in duty {
-                    if d > 0.0 && d < 1.0 {
-                        cuts.push(start + d * period);
-                    }
-                }
-                n += 1.0;
-            }
-            cuts.retain(|&t| t >= run.a && t < run.b);
-        }
-        cuts.push(run.b);
-        cuts.sort_by(f64::total_cmp);
-        cuts.dedup();
-        for w in cuts.windows(2) {
-            let (a, b) = (w[0], w[1]);
-            if b <= a {
-                continue;
-            }
-            let mid = 0.5 * (a + b);
-            let level = if pwm {
-                let period = 1.0 / prop.pwm_hz;
-                let phase = mid / period - (mid / period).floor();
-                duty.map(|d| if phase < d { leds } else { 0.0 })
-            } else {
-                duty.map(|d| d * leds)
-            };
-            if level == [0.0; 3] {
-                continue;
-            }
-            let span = motion.span_at_beat(show.tempo.beat_at_time(mid));
-            let vmax = span.map_or(0.0, |i| speeds[i]);
-            let steps = if vmax > 0.0 {
-                ((b - a) * vmax / spacing_m).ceil().max(1.0)
-            } else {
-                1.0
-            };
-            if steps + out.len() as f64 > MAX_PIECES as f64 {
-                return Err(too_many());
-            }
-            let n = steps as u64;
-            let dt = (b - a) / steps;
-            for i in 0..n {
-                let t = a + (i as f64 + 0.5) * dt;
-                let pos = motion.state_at(&show.tempo, t).head_m;
-                out.push(Piece {
-                    prop: p,
-                    pos,
-                    energy: level.map(|l| l * dt),
-                });
-            }
-        }
-    }
-    Ok(())
 }

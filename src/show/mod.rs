@@ -40,10 +40,6 @@ pub const DEFAULT_HEAD_RADIUS_M: f64 = 0.05;
 /// The largest show file read, bytes.
 pub const MAX_FILE_BYTES: u64 = 16 << 20;
 
-/// Default glow of a prop's head in previews: standard deviation, millimetres
-/// (a diffused ball of about 50 mm photographed a few metres away).
-pub const DEFAULT_GLOW_SIGMA_MM: f64 = 12.0;
-
 /// Current of one LED channel at full brightness when a prop leaves out
 /// `channel_current_a`, amperes: 20 mA, a common figure for small addressable
 /// RGB LEDs (from memory; the LED's data sheet takes precedence).
@@ -453,9 +449,7 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
             }
         };
         // Long-exposure previews: glow size and the LED driver's PWM.
-        let glow_sigma_mm = ctx
-            .number_in(t, "glow_sigma_mm", false, 0.0, true, 500.0)
-            .unwrap_or(DEFAULT_GLOW_SIGMA_MM);
+        let glow_sigma_mm = ctx.number_in(t, "glow_sigma_mm", false, 0.0, true, 500.0);
         let pwm_hz = ctx
             .number_in(t, "pwm_hz", false, 0.0, false, 1_000_000.0)
             .unwrap_or(0.0);
