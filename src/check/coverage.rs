@@ -39,7 +39,7 @@ use serde::Serialize;
 
 use super::kin::pieces;
 use super::report::{Warning, WarningKind, When, r9, r9_opt};
-use crate::model::{FixedTo, Painting, Show};
+use crate::model::{FixedTo, Painting, Prop, Show};
 use crate::motion::{PropMotion, Span};
 
 /// A painting whose LEDs pass less than this fraction of its visible
@@ -47,9 +47,10 @@ use crate::motion::{PropMotion, Span};
 pub const MIN_COVERED_FRACTION: f64 = 0.9;
 
 /// The most texel tests the coverage pass may make over a whole show:
-/// about half a minute of work on two cores in release (a one-minute
-/// 144-LED staff painting a 256-texel-wide picture needs about 3e8).
-pub const MAX_TEXEL_TESTS: f64 = 2e10;
+/// about 20 s of work on two cores in release (a one-minute 144-LED staff
+/// painting a 256-texel-wide picture 1.6 m wide needs about 4.4e8, half a
+/// second; 1024 texels wide, 1.8e9 and 3.5 s).
+pub const MAX_TEXEL_TESTS: f64 = 1e10;
 
 /// Steps in one parallel chunk of a stretch.
 const CHUNK_STEPS: usize = 512;
@@ -276,7 +277,9 @@ struct Grid<'a> {
     h: usize,
     sx: f64,
     sy: f64,
-    /// Squared distance that counts as passing, m^2.
+    /// Distance that counts as passing, m.
+    reach: f64,
+    /// Its square, m^2.
     reach2: f64,
     /// One bit per texel, row-major.
     bits: &'a [AtomicU64],
@@ -286,7 +289,7 @@ impl Grid<'_> {
     /// Marks every texel whose centre lies within the passing distance of
     /// the chord `p`-`q` (picture-frame metres).
     fn mark(&self, p: [f64; 2], q: [f64; 2]) {
-        let r = self.reach2.sqrt();
+        let r = self.reach;
         let range = |lo: f64, hi: f64, s: f64, n: usize| -> Option<(usize, usize)> {
             let i0 = ((lo - r) / s - 0.5).ceil().max(0.0);
             let i1 = ((hi + r) / s - 0.5).floor().min(n as f64 - 1.0);
@@ -410,6 +413,7 @@ pub fn scan(
             h,
             sx,
             sy,
+            reach: sx,
             reach2: sx * sx,
             bits: &bits,
         };
@@ -485,7 +489,7 @@ pub fn scan(
             max_frame_travel_texels: travel_texels,
         };
         if let Some(f) = fraction.filter(|&f| f < MIN_COVERED_FRACTION) {
-            warnings.push(warning(show, &entry, f, beyond, far_m, &along));
+            warnings.push(warning(show, &entry, f, beyond, far_m, prop));
         }
         figures.push(entry);
     }
@@ -502,7 +506,7 @@ fn warning(
     f: f64,
     beyond: usize,
     far_m: f64,
-    along: &[f64],
+    prop: &Prop,
 ) -> Warning {
     let cue = &show.cues[entry.cue];
     let start = show.tempo.beat_of_bar(cue.first_bar);
@@ -524,13 +528,20 @@ fn warning(
             ));
         }
         if missed > beyond {
-            let mut sorted = along.to_vec();
-            sorted.sort_by(f64::total_cmp);
-            let gap = sorted.windows(2).map(|w| w[1] - w[0]).fold(0.0, f64::max);
+            // The widest spacing of neighbouring LEDs on a strip.
+            let gap = prop
+                .strips
+                .iter()
+                .filter(|s| s.leds > 1)
+                .map(|s| (s.to_m - s.from_m) / f64::from(s.leds - 1))
+                .fold(None, |m: Option<f64>, g| Some(m.map_or(g, |m| m.max(g))));
+            let spacing = match gap {
+                Some(g) => format!("LEDs up to {:.1} mm apart on a strip", g * 1000.0),
+                None => format!("{} LED(s) at fixed points", prop.leds),
+            };
             advice.push(format!(
-                "{} lie between the LEDs' paths (LEDs up to {:.1} mm apart, texels {texel_mm:.1} mm): use more LEDs or a longer strip, or a larger picture",
-                missed - beyond,
-                gap * 1000.0
+                "{} lie between the LEDs' paths ({spacing}, texels {texel_mm:.1} mm): use more LEDs on the strip, or a larger picture",
+                missed - beyond
             ));
         }
         if let Some(t) = entry.max_frame_travel_texels.filter(|&t| t > 1.0) {
@@ -591,6 +602,7 @@ mod tests {
             h: 10,
             sx: 1.0,
             sy: 1.0,
+            reach: 1.0,
             reach2: 1.0,
             bits: &bits,
         };
