@@ -425,3 +425,32 @@ fn check_json_lists_each_painting_and_is_repeatable() {
         .collect();
     assert!(kinds.contains(&"coverage"), "{kinds:?}");
 }
+
+#[test]
+fn a_mirrored_placement_paints_the_mirror_image() {
+    // Plane geometry: a mirrored placement reflects the path left-right on
+    // the plane's clock; reflecting the picture and its place too maps every
+    // texel centre onto its reflection at the same distance from the path,
+    // so the same texels count. A three-petal antispin flower (hand 0.15 m,
+    // rod 0.5 m, head_turns -2, head_start 270) has its tips at 3, 7 and 11
+    // o'clock (0.65 m out) and an inner point at 9 o'clock (0.35 m): a small
+    // picture at the 3 o'clock tip is reached, its mirror image at 9 o'clock
+    // is reached only by the mirrored placement.
+    let prop = "tether_m = 0.5\nstrip = { leds = 8, from_m = 0.3, to_m = 0.5 }";
+    let pattern =
+        "plane = \"wheel\"\nbeats = 4\nhand_radius_m = 0.15\nhead_turns = -2\nhead_start_deg = 270";
+    let keep = |i: u32, j: u32| i < 10 || j < 4;
+    let shape = || picture(16, keep);
+    let flipped = || picture(16, |i, j| keep(15 - i, j));
+    let text = show_text(prop, pattern, "[1, 2]");
+    let mirrored = text.replace("p = \"x\"", "p = { pattern = \"x\", mirror = true }");
+    let right = placement([0.6, 0.0], 0.16, FixedTo::Stage);
+    let left = placement([-0.6, 0.0], 0.16, FixedTo::Stage);
+    let plain = only(&check(&painted(&text, shape(), right))).covered_texels;
+    let image = only(&check(&painted(&mirrored, flipped(), left))).covered_texels;
+    assert!(plain > 20, "the tip reaches the picture: {plain}");
+    assert_eq!(plain, image);
+    // Left as it was, the picture at 3 o'clock now faces an inner point.
+    let missed = only(&check(&painted(&mirrored, shape(), right))).covered_texels;
+    assert!(missed < plain / 2, "{missed} vs {plain}");
+}
