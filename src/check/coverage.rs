@@ -49,7 +49,7 @@ pub const MIN_COVERED_FRACTION: f64 = 0.9;
 /// The most texel tests the coverage pass may make over a whole show:
 /// about 20 s of work on two cores in release (a one-minute 144-LED staff
 /// painting a 256-texel-wide picture 1.6 m wide needs about 4.4e8, half a
-/// second; 1024 texels wide, 1.8e9 and 3.5 s).
+/// second; 1024 texels wide, 1.8e9 and 2 to 4 s).
 pub const MAX_TEXEL_TESTS: f64 = 1e10;
 
 /// Steps in one parallel chunk of a stretch.
