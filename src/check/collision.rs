@@ -1,9 +1,11 @@
 //! Collisions: the closest approach of two props while both play a pattern.
 //!
-//! Each prop is modelled as a capsule: the segment from hand to head centre
-//! (the tether) swept by a ball of the head's radius. Two props touch where
-//! their segments come closer than the sum of their head radii; the heads
-//! themselves meet where the head centres do. Within a section both props'
+//! Each prop is modelled as a capsule swept by a ball of the head's radius:
+//! for a poi, around the segment from hand to head centre (the tether); for
+//! a staff, around the whole rod, from the tail end to the head end. Two
+//! props touch where their segments come closer than the sum of their head
+//! radii; the heads themselves meet where the head centres do (both ends of
+//! a staff count as heads). Within a section both props'
 //! positions are sums of rotating terms of the same beat variable, so the
 //! distances are sampled on the beat axis (64 samples per turn of the
 //! fastest term, doubled for relative motion) and every sampled minimum is
@@ -16,8 +18,8 @@ use super::CheckSettings;
 use super::kin::{sample_count, samples_needed};
 use super::report::{PairFigures, Warning, WarningKind, When};
 use super::search::{DipFinder, Extremes, Stretch, for_each_point, merge_touching};
-use crate::model::Show;
-use crate::motion::{PropMotion, Span};
+use crate::model::{PropKind, Show};
+use crate::motion::{Curve, PropMotion, Span};
 
 /// Shortest distance between the segments `p1`-`q1` and `p2`-`q2`, metres
 /// (C. Ericson, Real-Time Collision Detection, 2005, section 5.1.9).
@@ -66,13 +68,42 @@ pub fn segment_distance(
     ((p1 + d1 * s) - (p2 + d2 * t)).norm()
 }
 
-/// Hand and head position, stage coordinates, `s` beats into `span`.
-fn ends(span: &Span, s: f64) -> (Vector3<f64>, Vector3<f64>) {
+/// A prop's capsule and heads, stage coordinates, at one instant.
+struct Pose {
+    /// Where the capsule's segment starts: a poi's hand, a staff's tail end.
+    start: Vector3<f64>,
+    /// The head (end) centre, where the segment ends.
+    head: Vector3<f64>,
+    /// True when `start` is a staff's tail end, a head too.
+    start_is_head: bool,
+}
+
+impl Pose {
+    /// The head centres: the head, and a staff's tail end.
+    fn heads(&self) -> impl Iterator<Item = Vector3<f64>> + '_ {
+        std::iter::once(self.head).chain(self.start_is_head.then_some(self.start))
+    }
+}
+
+/// The pose `s` beats into `span`; `tail` is a staff's tail-end path (none
+/// for a poi).
+fn pose(span: &Span, tail: Option<&Curve>, s: f64) -> Pose {
     let u = span.phase(s);
-    (
-        span.to_stage(span.hand.point(u)),
-        span.to_stage(span.head.point(u)),
-    )
+    let start = match tail {
+        Some(c) => c.point(u),
+        None => span.hand.point(u),
+    };
+    Pose {
+        start: span.to_stage(start),
+        head: span.to_stage(span.head.point(u)),
+        start_is_head: tail.is_some(),
+    }
+}
+
+/// A staff's tail-end path in `span` (none for a poi).
+fn tail_curve(show: &Show, motion: &PropMotion, span: &Span) -> Option<Curve> {
+    let p = &show.props[motion.prop];
+    (p.kind == PropKind::Staff).then(|| span.point_curve(-p.tail_m))
 }
 
 /// Fastest rotation of any term of a span's hand or head, turns per beat.
@@ -122,14 +153,17 @@ pub fn scan_pair(
             continue;
         };
         let (x0, x1) = (sa.start_beat, sa.end_beat);
-        let at = |x: f64| (ends(sa, x - x0), ends(sb, x - x0));
+        let (ca, cb) = (tail_curve(show, a, sa), tail_curve(show, b, sb));
+        let at = |x: f64| (pose(sa, ca.as_ref(), x - x0), pose(sb, cb.as_ref(), x - x0));
         let head_d = |x: f64| {
-            let ((_, ha), (_, hb)) = at(x);
-            (ha - hb).norm()
+            let (pa, pb) = at(x);
+            pa.heads()
+                .flat_map(|ha| pb.heads().map(move |hb| (ha - hb).norm()))
+                .fold(f64::INFINITY, f64::min)
         };
         let gap = |x: f64| {
-            let ((ta, ha), (tb, hb)) = at(x);
-            segment_distance(ta, ha, tb, hb) - contact
+            let (pa, pb) = at(x);
+            segment_distance(pa.start, pa.head, pb.start, pb.head) - contact
         };
         let n = sample_count(section_samples(sa, sb, settings));
         let mut finder = DipFinder::new(&gap);
@@ -158,6 +192,16 @@ pub fn scan_pair(
     }
     let when = |x: Option<(f64, f64)>| x.map(|(_, b)| When::at_beat(show, b));
     let (na, nb) = (&pa.name, &pb.name);
+    let bodies = match (pa.kind, pb.kind) {
+        (PropKind::Poi, PropKind::Poi) => "the tethers".to_string(),
+        (ka, kb) => {
+            let word = |k: PropKind| match k {
+                PropKind::Poi => "tether",
+                PropKind::Staff => "staff",
+            };
+            format!("{na}'s {} and {nb}'s {}", word(ka), word(kb))
+        }
+    };
     let warnings = merge_touching(touching, |p, q| (p.0.min(q.0), p.1.min(q.1)))
         .into_iter()
         .map(|s| {
@@ -174,7 +218,7 @@ pub fn scan_pair(
                 (
                     t,
                     format!(
-                        "{na} and {nb}: the tethers come within {t:.3} m for {dur:.3} s (contact at {contact:.3} m)"
+                        "{na} and {nb}: {bodies} come within {t:.3} m for {dur:.3} s (contact at {contact:.3} m)"
                     ),
                 )
             };

@@ -5,23 +5,28 @@
 //! the one just after (the start of the next, or rest). Every boundary
 //! strictly inside the show is checked (bar 1 beat 1 and the end are not: the
 //! performer picks the props up where the show starts them). A prop not
-//! placed in a section rests: hand at the anchor, head hanging straight down.
+//! placed in a section rests: hand at the anchor, head hanging straight down
+//! (a staff's tail end straight up). Every end of the prop is checked (a
+//! poi's head, a staff's head end and tail end); the warning gives the end
+//! that jumps furthest, by name.
 
 use nalgebra::Vector3;
 
-use super::kin::show_end_beat;
+use super::kin::{end_curves, end_name, show_end_beat};
 use super::report::{Warning, WarningKind, When};
 use crate::model::Show;
 use crate::motion::PropMotion;
 
-/// Hand and head position just before (`after = false`) or just after the
-/// global beat `beat`, with the name of what the prop does there.
+/// Hand position and the position of every end of the prop (the order of
+/// [`crate::model::Prop::ends_m`]: head end first) just before (`after =
+/// false`) or just after the global beat `beat`, with the name of what the
+/// prop does there.
 fn side(
     show: &Show,
     motion: &PropMotion,
     beat: f64,
     after: bool,
-) -> (Vector3<f64>, Vector3<f64>, String) {
+) -> (Vector3<f64>, Vec<Vector3<f64>>, String) {
     let span = motion.spans.iter().find(|s| {
         if after {
             s.start_beat == beat
@@ -29,27 +34,32 @@ fn side(
             s.end_beat == beat
         }
     });
+    let p = &show.props[motion.prop];
+    let ends_m = p.ends_m();
     match span {
         Some(s) => {
             let x = if after { 0.0 } else { s.beats() };
             let u = s.phase(x);
             let name = format!("`{}`", show.patterns[s.pattern].name);
-            (
-                s.to_stage(s.hand.point(u)),
-                s.to_stage(s.head.point(u)),
-                name,
-            )
+            let ends = end_curves(s, &ends_m)
+                .iter()
+                .map(|c| s.to_stage(c.point(u)))
+                .collect();
+            (s.to_stage(s.hand.point(u)), ends, name)
         }
         None => {
-            let p = &show.props[motion.prop];
-            let head = p.anchor_m - Vector3::new(0.0, p.tether_m, 0.0);
-            (p.anchor_m, head, "rest".to_string())
+            let ends = ends_m
+                .iter()
+                .map(|&along| p.anchor_m - Vector3::new(0.0, along, 0.0))
+                .collect();
+            (p.anchor_m, ends, "rest".to_string())
         }
     }
 }
 
-/// Every boundary where `motion`'s head moves more than `limit_m` metres at
-/// once, as `jump` warnings.
+/// Every boundary where one of `motion`'s ends moves more than `limit_m`
+/// metres at once, as `jump` warnings (one per boundary, for the end that
+/// jumps furthest).
 pub fn jumps(show: &Show, motion: &PropMotion, limit_m: f64) -> Vec<Warning> {
     let end = show_end_beat(show);
     let mut cuts: Vec<f64> = show
@@ -68,11 +78,34 @@ pub fn jumps(show: &Show, motion: &PropMotion, limit_m: f64) -> Vec<Warning> {
     let name = &show.props[motion.prop].name;
     let mut out = Vec::new();
     for b in cuts {
-        let (hand0, head0, from) = side(show, motion, b, false);
-        let (hand1, head1, to) = side(show, motion, b, true);
-        let d = (head1 - head0).norm();
+        let (hand0, ends0, from) = side(show, motion, b, false);
+        let (hand1, ends1, to) = side(show, motion, b, true);
+        let moves: Vec<f64> = ends0
+            .iter()
+            .zip(&ends1)
+            .map(|(e0, e1)| (e1 - e0).norm())
+            .collect();
+        // The furthest jump; the head end's on a tie.
+        let (worst, d) =
+            moves
+                .iter()
+                .copied()
+                .enumerate()
+                .fold((0, f64::NEG_INFINITY), |best, (i, d)| {
+                    if d > best.1 { (i, d) } else { best }
+                });
         if d > limit_m {
             let at = When::at_beat(show, b);
+            let what = end_name(moves.len(), worst);
+            let mut also = String::new();
+            for (i, m) in moves.iter().enumerate() {
+                if i != worst {
+                    also.push_str(&format!(
+                        "the {} jumps {m:.3} m, ",
+                        end_name(moves.len(), i)
+                    ));
+                }
+            }
             out.push(Warning {
                 kind: WarningKind::Jump,
                 prop: name.clone(),
@@ -83,7 +116,7 @@ pub fn jumps(show: &Show, motion: &PropMotion, limit_m: f64) -> Vec<Warning> {
                 limit: Some(limit_m),
                 unit: Some("m"),
                 message: format!(
-                    "{name}: the head jumps {d:.3} m at the start of bar {} (from {from} to {to}; the hand jumps {:.3} m)",
+                    "{name}: the {what} jumps {d:.3} m at the start of bar {} (from {from} to {to}; {also}the hand jumps {:.3} m)",
                     at.bar,
                     (hand1 - hand0).norm()
                 ),

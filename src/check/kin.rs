@@ -1,6 +1,13 @@
-//! Kinematics for the checks: hand and head position, velocity, acceleration
-//! and jerk in stage coordinates against time, and the show cut into pieces
-//! on which each prop's motion is smooth (one pattern, one tempo) or at rest.
+//! Kinematics for the checks: hand and prop-end position, velocity,
+//! acceleration and jerk in stage coordinates against time, and the show cut
+//! into pieces on which each prop's motion is smooth (one pattern, one
+//! tempo) or at rest.
+//!
+//! A poi has one end, its head. A staff is a rigid rod held at the grip
+//! (the hand) and has two: the head end, `tether_m` along the prop's
+//! direction, which traces the pattern's head path, and the tail end,
+//! `tail_m` the other way ([`crate::model::Prop::ends_m`]). The checks scan
+//! every end with the same [`Kin`]: its `head` is the end being scanned.
 
 use nalgebra::Vector3;
 
@@ -8,12 +15,13 @@ use crate::model::Show;
 use crate::motion::{Curve, PropMotion, Span};
 
 /// Position (m) and its first three time derivatives (m/s, m/s^2, m/s^3)
-/// of a prop's hand and head, stage coordinates.
+/// of a prop's hand and of one end of the prop, stage coordinates.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Kin {
     /// Hand: position, velocity, acceleration, jerk.
     pub hand: [Vector3<f64>; 4],
-    /// Head: position, velocity, acceleration, jerk.
+    /// The end scanned (a poi's head; a staff's head end or tail end):
+    /// position, velocity, acceleration, jerk.
     pub head: [Vector3<f64>; 4],
 }
 
@@ -41,21 +49,62 @@ fn to_stage(span: &Span, j: [[f64; 2]; 4], rate: f64) -> [Vector3<f64>; 4] {
 impl Kin {
     /// The state `s` beats into `span`, at a tempo of `beats_per_s`.
     pub fn moving(span: &Span, beats_per_s: f64, s: f64) -> Kin {
+        Kin::moving_end(span, &span.head, beats_per_s, s)
+    }
+
+    /// The state `s` beats into `span` with `end` (one of [`end_curves`])
+    /// as the end scanned.
+    pub fn moving_end(span: &Span, end: &Curve, beats_per_s: f64, s: f64) -> Kin {
         let u = span.phase(s);
         let rate = span.phase_per_beat() * beats_per_s;
         Kin {
             hand: to_stage(span, jet3(&span.hand, u), rate),
-            head: to_stage(span, jet3(&span.head, u), rate),
+            head: to_stage(span, jet3(end, u), rate),
         }
     }
 
     /// A prop at rest: hand still at `anchor`, head hanging `tether_m` below.
     pub fn resting(anchor: Vector3<f64>, tether_m: f64) -> Kin {
+        Kin::resting_end(anchor, tether_m)
+    }
+
+    /// A prop at rest, scanning the end `along_m` metres from the grip along
+    /// the prop's direction, which points straight down: the head end hangs
+    /// below the anchor, a staff's tail end (`along_m < 0`) stands above it.
+    pub fn resting_end(anchor: Vector3<f64>, along_m: f64) -> Kin {
         let z = Vector3::zeros();
         Kin {
             hand: [anchor, z, z, z],
-            head: [anchor - Vector3::new(0.0, tether_m, 0.0), z, z, z],
+            head: [anchor - Vector3::new(0.0, along_m, 0.0), z, z, z],
         }
+    }
+}
+
+/// The paths of the prop's ends in `span`, in the order of `ends_m` (from
+/// [`crate::model::Prop::ends_m`]: the head end first): the head end is the
+/// span's own head path, any other end the point that far along the prop's
+/// direction ([`Span::point_curve`]).
+pub fn end_curves(span: &Span, ends_m: &[f64]) -> Vec<Curve> {
+    ends_m
+        .iter()
+        .enumerate()
+        .map(|(i, &along)| {
+            if i == 0 {
+                span.head.clone()
+            } else {
+                span.point_curve(along)
+            }
+        })
+        .collect()
+}
+
+/// Where an end is called in messages: `head` for a poi's only end, `head
+/// end` and `tail end` for a staff's.
+pub fn end_name(ends: usize, i: usize) -> &'static str {
+    match (ends, i) {
+        (1, _) => "head",
+        (_, 0) => "head end",
+        _ => "tail end",
     }
 }
 

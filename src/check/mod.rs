@@ -9,7 +9,18 @@
 //! boundary, heads that jump ([`jumps`]). From the frame tables: flash
 //! counts after W3C WCAG 2.x per prop and for the whole stage, LED current
 //! and battery time ([`light`]), and how far each cue's colour changes land
-//! from their events ([`landing`]). [`report`] holds the result.
+//! from their events ([`landing`]). For every cue that paints a picture,
+//! how much of it the LEDs pass ([`coverage`]). [`report`] holds the result.
+//!
+//! Staffs: a staff is a rigid rod held at the grip, with two ends (the head
+//! end, which traces the pattern's head path, and the tail end opposite).
+//! Speed, acceleration, reach, distance from the centre line and the swept
+//! box scan both ends and report the worst; the "tension" of a staff is the
+//! axial force the rod carries at each end's weight, `T = -m (a - g) . u`
+//! with u the unit vector from the grip to that end (negative: the rod
+//! pushes, which a rod can), and a staff never warns of slack; a staff's
+//! collision capsule is the whole rod, tail end to head end; jumps look at
+//! both ends and name the one that jumps furthest.
 //!
 //! Accuracy: smooth quantities are sampled at 64 samples per turn of the
 //! fastest relative rotation and their extremes refined by Brent's method on
@@ -17,6 +28,7 @@
 //! refined by golden-section search to 1e-12 beats (see [`search`]).
 
 pub mod collision;
+pub mod coverage;
 pub mod hardware;
 pub mod jumps;
 pub mod kin;
@@ -29,7 +41,7 @@ pub mod search;
 pub mod spin;
 pub mod tension;
 
-pub use report::{CheckReport, PairFigures, PropFigures, Warning, WarningKind, When};
+pub use report::{CheckReport, EndFigures, PairFigures, PropFigures, Warning, WarningKind, When};
 
 use rayon::prelude::*;
 
@@ -81,6 +93,14 @@ pub enum CheckError {
         /// Sample intervals needed.
         samples: f64,
     },
+    /// The picture coverage would need more than
+    /// [`coverage::MAX_TEXEL_TESTS`] texel tests.
+    TooMuchPainting {
+        /// The cue that needs the most, index from 0 in file order.
+        cue: usize,
+        /// Texel tests needed over the show.
+        tests: f64,
+    },
 }
 
 impl std::fmt::Display for CheckError {
@@ -89,6 +109,11 @@ impl std::fmt::Display for CheckError {
             CheckError::TooMuchWork { samples } => write!(
                 f,
                 "checking this show would take {samples:.3e} samples, more than the limit of {MAX_SAMPLES:.0e}: the show is too long or its patterns turn too fast"
+            ),
+            CheckError::TooMuchPainting { cue, tests } => write!(
+                f,
+                "checking how much of the pictures the LEDs pass would take {tests:.3e} texel tests, more than the limit of {:.0e} (cue {cue} needs the most): use pictures with fewer texels, fewer LEDs or shorter painting cues",
+                coverage::MAX_TEXEL_TESTS
             ),
         }
     }
@@ -100,10 +125,12 @@ impl std::error::Error for CheckError {}
 pub fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSettings) -> f64 {
     let mut total = 0.0;
     for m in motions {
+        let p = &show.props[m.prop];
+        // The extremes pass for every end, and a poi's slack pass.
+        let passes = p.ends_m().len() + usize::from(p.kind == crate::model::PropKind::Poi);
         for piece in kin::pieces(show, m) {
             if let Some(i) = piece.span {
-                // The extremes pass, and the slack pass where needed.
-                total += 2.0 * prop::piece_samples(&m.spans[i], &piece, settings);
+                total += passes as f64 * prop::piece_samples(&m.spans[i], &piece, settings);
             }
         }
     }
@@ -119,7 +146,9 @@ pub fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSetti
     total
 }
 
-/// Refuses a show whose checks would need more than [`MAX_SAMPLES`] samples.
+/// Refuses a show whose checks would need more than [`MAX_SAMPLES`] samples,
+/// or whose picture coverage would need more than
+/// [`coverage::MAX_TEXEL_TESTS`] texel tests.
 pub fn within_budget(
     show: &Show,
     motions: &[PropMotion],
@@ -129,7 +158,14 @@ pub fn within_budget(
     if samples.is_nan() || samples > MAX_SAMPLES {
         return Err(CheckError::TooMuchWork { samples });
     }
-    Ok(())
+    coverage::within_budget(show, motions).map_err(painting_error)
+}
+
+fn painting_error(e: coverage::TooMuchPainting) -> CheckError {
+    CheckError::TooMuchPainting {
+        cue: e.cue,
+        tests: e.tests,
+    }
 }
 
 /// Checks `show` with the default settings: physics, light and landing.
@@ -283,6 +319,8 @@ pub fn check_with_frames(
     let (cue_landings, landing_summary, landing_warnings) =
         landing::scan(show, &lights.landings, settings.tolerance_mm);
     warnings.extend(landing_warnings);
+    let (paintings, coverage_warnings) = coverage::scan(show, motions).map_err(painting_error)?;
+    warnings.extend(coverage_warnings);
     let start = show.tempo.start_s();
     let mut report = CheckReport {
         valid: true,
@@ -300,6 +338,7 @@ pub fn check_with_frames(
         stage_flash: light_scan.stage_flash,
         cues: cue_landings,
         landing: Some(landing_summary),
+        paintings,
         warnings,
         errors: Vec::new(),
         cautions: report::CAUTIONS.to_vec(),

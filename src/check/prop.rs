@@ -1,5 +1,7 @@
 //! One pass over one prop's whole show: tension, speed, acceleration,
 //! spin rates, reach and swept space, with slack and spin-rate warnings.
+//! Every end of the prop is scanned: a poi's head, a staff's head end and
+//! tail end (the figures are the worst over the ends; see [`scan_prop`]).
 //!
 //! Each smooth piece (one pattern at one tempo) is sampled at
 //! `samples_per_turn` samples per turn of the head path's fastest relative
@@ -12,15 +14,17 @@
 use nalgebra::Vector3;
 
 use super::CheckSettings;
-use super::kin::{Kin, Piece, pieces, sample_count, samples_needed, span_detail_per_beat};
+use super::kin::{
+    Kin, Piece, end_curves, pieces, sample_count, samples_needed, span_detail_per_beat,
+};
 use super::reach::{Bounds, anchor_distance_sq, centre_distance_sq};
-use super::report::{PropFigures, Warning, WarningKind, When};
+use super::report::{EndFigures, PropFigures, Warning, WarningKind, When};
 use super::search::{
     DipFinder, Extremes, Quantity, Stretch, for_each_point, merge_touching, scan_extremes,
 };
 use super::spin::{hand_turns_per_s, head_turns_per_s};
 use super::tension::{G0, tension_n};
-use crate::model::Show;
+use crate::model::{PropKind, Show};
 use crate::motion::{PropMotion, Span};
 
 const Q_TENSION: usize = 0;
@@ -55,6 +59,13 @@ pub struct PropScan {
 }
 
 /// The pass over `motion` (one prop of `show`); `centre` is the centre line.
+///
+/// Every end of the prop is scanned ([`crate::model::Prop::ends_m`]): a
+/// poi's head, or a staff's head end and tail end. The figures report the
+/// worst over the ends; a staff's figures also list each end's own. For a
+/// staff the "tension" is the axial force the rod carries at each end's
+/// weight (negative: the rod pushes), which a rod can do: a staff is never
+/// slack.
 pub fn scan_prop(
     show: &Show,
     motion: &PropMotion,
@@ -62,6 +73,8 @@ pub fn scan_prop(
     centre: [f64; 2],
 ) -> PropScan {
     let prop = &show.props[motion.prop];
+    let staff = prop.kind == PropKind::Staff;
+    let ends = prop.ends_m();
     let mass = prop.head_mass_kg;
     let anchor = prop.anchor_m;
     let q_tension = |k: &Kin| tension_n(mass, k);
@@ -80,7 +93,8 @@ pub fn scan_prop(
         &hand_y, &hand_z,
     ];
 
-    let mut total = [Extremes::default(); N_Q];
+    // Extremes per end, in the order of `ends`.
+    let mut per_end = vec![[Extremes::default(); N_Q]; ends.len()];
     let mut slack: Vec<Stretch<(f64, f64)>> = Vec::new();
     let mut fast_hand: Vec<Stretch<f64>> = Vec::new();
     let mut fast_head: Vec<Stretch<f64>> = Vec::new();
@@ -89,30 +103,35 @@ pub fn scan_prop(
     for piece in pieces(show, motion) {
         let (a, b) = (piece.start_beat, piece.end_beat);
         let Some(i) = piece.span else {
-            let k = Kin::resting(anchor, prop.tether_m);
-            for (q, e) in quantities.iter().zip(total.iter_mut()) {
-                e.offer(q(&k).0, a);
+            for (total, &along) in per_end.iter_mut().zip(&ends) {
+                let k = Kin::resting_end(anchor, along);
+                for (q, e) in quantities.iter().zip(total.iter_mut()) {
+                    e.offer(q(&k).0, a);
+                }
             }
             continue;
         };
         let span = &motion.spans[i];
         let bps = piece.beats_per_s;
-        let eval = |x: f64| Kin::moving(span, bps, x - span.start_beat);
         let n = sample_count(piece_samples(span, &piece, settings));
-        let mut ext = [Extremes::default(); N_Q];
-        scan_extremes(eval, a, b, n, 1.0 / bps, &quantities, &mut ext);
-        if ext[Q_TENSION].min.is_some_and(|m| m.0 < 0.0) {
-            let f = |x: f64| tension_n(mass, &eval(x)).0;
-            let mut finder = DipFinder::new(&f);
-            for_each_point(&f, a, b, n, &mut |x, v| finder.push(x, v));
-            slack.extend(finder.finish().into_iter().map(|d| Stretch {
-                start: d.start,
-                end: d.end,
-                figure: (d.worst, d.worst_at),
-            }));
-        }
-        for (e, x) in total.iter_mut().zip(&ext) {
-            e.merge(x);
+        for (total, curve) in per_end.iter_mut().zip(end_curves(span, &ends)) {
+            let eval = |x: f64| Kin::moving_end(span, &curve, bps, x - span.start_beat);
+            let mut ext = [Extremes::default(); N_Q];
+            scan_extremes(eval, a, b, n, 1.0 / bps, &quantities, &mut ext);
+            // A rod pushes as well as pulls: only a poi's tether goes slack.
+            if !staff && ext[Q_TENSION].min.is_some_and(|m| m.0 < 0.0) {
+                let f = |x: f64| tension_n(mass, &eval(x)).0;
+                let mut finder = DipFinder::new(&f);
+                for_each_point(&f, a, b, n, &mut |x, v| finder.push(x, v));
+                slack.extend(finder.finish().into_iter().map(|d| Stretch {
+                    start: d.start,
+                    end: d.end,
+                    figure: (d.worst, d.worst_at),
+                }));
+            }
+            for (e, x) in total.iter_mut().zip(&ext) {
+                e.merge(x);
+            }
         }
         let (rh, rt) = (
             hand_turns_per_s(span, bps),
@@ -130,6 +149,13 @@ pub fn scan_prop(
         }
         if rt > settings.spin_limit_turns_per_s {
             fast_head.push(stretch(rt));
+        }
+    }
+    // The worst over the ends (ties keep the head end's).
+    let mut total = per_end[0];
+    for other in &per_end[1..] {
+        for (e, x) in total.iter_mut().zip(other) {
+            e.merge(x);
         }
     }
 
@@ -160,7 +186,8 @@ pub fn scan_prop(
             ),
         });
     }
-    for (what, list) in [("hand", fast_hand), ("tether", fast_head)] {
+    let turning = if staff { "staff" } else { "tether" };
+    for (what, list) in [("hand", fast_hand), (turning, fast_head)] {
         for s in merge_touching(list, f64::max) {
             let dur = seconds(s.start, s.end);
             warnings.push(Warning {
@@ -195,8 +222,37 @@ pub fn scan_prop(
     let mut hands = Bounds::default();
     hands.include(hand_lo, hand_hi);
 
+    let end_figures = if staff {
+        per_end
+            .iter()
+            .zip(&ends)
+            .enumerate()
+            .map(|(i, (x, &along))| {
+                let max = |q: usize| x[q].max.map_or(0.0, |m| m.0);
+                let min = |q: usize| x[q].min.map_or(0.0, |m| m.0);
+                EndFigures {
+                    end: if i == 0 { "head" } else { "tail" },
+                    along_m: along,
+                    max_speed_m_s: max(Q_SPEED).sqrt(),
+                    max_speed_at: when(x[Q_SPEED].max),
+                    max_acc_g: max(Q_ACC).sqrt() / G0,
+                    max_acc_at: when(x[Q_ACC].max),
+                    min_tension_n: min(Q_TENSION),
+                    min_tension_at: when(x[Q_TENSION].min),
+                    max_tension_n: max(Q_TENSION),
+                    max_tension_at: when(x[Q_TENSION].max),
+                    reach_m: max(Q_ANCHOR).sqrt(),
+                    reach_at: when(x[Q_ANCHOR].max),
+                }
+            })
+            .collect()
+    } else {
+        Vec::new()
+    };
+
     let figures = PropFigures {
         name: name.clone(),
+        kind: prop.kind.name(),
         max_speed_m_s: max(Q_SPEED).sqrt(),
         max_speed_at: when(total[Q_SPEED].max),
         max_acc_g: max(Q_ACC).sqrt() / G0,
@@ -214,6 +270,7 @@ pub fn scan_prop(
         reach_at: when(total[Q_ANCHOR].max),
         reach_from_centre_m: max(Q_CENTRE).sqrt(),
         reach_from_centre_at: when(total[Q_CENTRE].max),
+        ends: end_figures,
         peak_current_a: None,
         peak_current_at: None,
         mean_current_a: None,

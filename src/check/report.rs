@@ -11,6 +11,7 @@ use std::io::{self, Write};
 use serde::Serialize;
 use serde::ser::{SerializeMap, Serializer};
 
+use super::coverage::PaintingCoverage;
 use super::landing::{CueLanding, LandingSummary};
 use super::light::FlashFigures;
 use crate::commands::round_to;
@@ -40,6 +41,8 @@ pub enum WarningKind {
     Memory,
     /// The prop's clock drifts off the music by more than the show allows.
     Drift,
+    /// A painting cue's LEDs pass too little of its picture.
+    Coverage,
 }
 
 impl WarningKind {
@@ -56,6 +59,7 @@ impl WarningKind {
             WarningKind::Refresh => "refresh",
             WarningKind::Memory => "memory",
             WarningKind::Drift => "drift",
+            WarningKind::Coverage => "coverage",
         }
     }
 }
@@ -141,12 +145,22 @@ pub struct Warning {
 
 /// The physics figures of one prop over the whole show (bar 1 beat 1 to the
 /// end of the last section, rest included).
+///
+/// A staff has two ends (head end and tail end); its speed, acceleration,
+/// tension, reach and swept figures are the worst over both ends, and
+/// [`PropFigures::ends`] lists each end's own. For a staff, "tension" is
+/// the axial force the rod carries at an end's weight, `T = -m (a - g) . u`
+/// with u the unit vector from the grip to that end: positive when the rod
+/// pulls the end toward the grip, negative when it pushes (a rod can; a
+/// staff never goes slack).
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct PropFigures {
     /// The prop's name (the key of the JSON map).
     #[serde(skip)]
     pub name: String,
-    /// Highest head speed, m/s.
+    /// `poi` or `staff`.
+    pub kind: &'static str,
+    /// Highest head speed (a staff: of either end), m/s.
     #[serde(serialize_with = "r9")]
     pub max_speed_m_s: f64,
     /// Where the head is fastest.
@@ -193,6 +207,10 @@ pub struct PropFigures {
     pub reach_from_centre_m: f64,
     /// Where the head is farthest from the centre line.
     pub reach_from_centre_at: Option<When>,
+    /// A staff's figures per end, head end first (empty for a poi, and then
+    /// left out of the JSON).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub ends: Vec<EndFigures>,
     /// Peak LED current, amperes (filled by the light checks; null until then).
     #[serde(serialize_with = "r9_opt")]
     pub peak_current_a: Option<f64>,
@@ -214,6 +232,43 @@ pub struct PropFigures {
     pub hardware: Option<super::hardware::HardwareFigures>,
 }
 
+/// The figures of one end of a staff over the whole show.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct EndFigures {
+    /// `head` (the end that traces the pattern's head path) or `tail`.
+    pub end: &'static str,
+    /// Signed distance of the end from the grip along the prop's direction
+    /// (grip to head end), metres: `tether_m` or `-tail_m`.
+    #[serde(serialize_with = "r9")]
+    pub along_m: f64,
+    /// Highest speed of the end, m/s.
+    #[serde(serialize_with = "r9")]
+    pub max_speed_m_s: f64,
+    /// Where it is fastest.
+    pub max_speed_at: Option<When>,
+    /// Highest acceleration of the end (motion only), in units of g.
+    #[serde(serialize_with = "r9")]
+    pub max_acc_g: f64,
+    /// Where its acceleration is highest.
+    pub max_acc_at: Option<When>,
+    /// Lowest axial force the rod carries at the end's weight, newtons
+    /// (negative: the rod pushes the end away from the grip).
+    #[serde(serialize_with = "r9")]
+    pub min_tension_n: f64,
+    /// Where that is.
+    pub min_tension_at: Option<When>,
+    /// Highest axial force, newtons.
+    #[serde(serialize_with = "r9")]
+    pub max_tension_n: f64,
+    /// Where that is.
+    pub max_tension_at: Option<When>,
+    /// Farthest the end's centre gets from the anchor, metres.
+    #[serde(serialize_with = "r9")]
+    pub reach_m: f64,
+    /// Where that is.
+    pub reach_at: Option<When>,
+}
+
 /// The closest approach of two props while both play a pattern.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct PairFigures {
@@ -222,14 +277,16 @@ pub struct PairFigures {
     /// Contact distance: the sum of the two head radii, metres.
     #[serde(serialize_with = "r9")]
     pub contact_m: f64,
-    /// Closest distance between the head centres, metres (null if the
-    /// two never move at the same time).
+    /// Closest distance between the head centres (a staff's head end and
+    /// tail end both count as heads), metres (null if the two never move at
+    /// the same time).
     #[serde(serialize_with = "r9_opt")]
     pub min_head_distance_m: Option<f64>,
     /// Where the heads are closest.
     pub min_head_distance_at: Option<When>,
-    /// Closest distance between the tethers as segments from hand to head
-    /// centre, metres.
+    /// Closest distance between the props as segments: a poi's tether from
+    /// hand to head centre, a staff's whole rod from tail end to head end,
+    /// metres.
     #[serde(serialize_with = "r9_opt")]
     pub min_tether_distance_m: Option<f64>,
     /// Where the tethers are closest.
@@ -359,6 +416,8 @@ pub struct CheckReport {
     pub cues: Vec<CueLanding>,
     /// Landing figures of the whole show.
     pub landing: Option<LandingSummary>,
+    /// How much of its picture each painting cue's LEDs pass, in cue order.
+    pub paintings: Vec<PaintingCoverage>,
     /// Every warning, sorted by time, then kind, then prop.
     pub warnings: Vec<Warning>,
     /// Why the show is invalid (empty when valid).
@@ -412,6 +471,7 @@ impl CheckReport {
             stage_flash: None,
             cues: Vec::new(),
             landing: None,
+            paintings: Vec::new(),
             warnings: Vec::new(),
             errors,
             cautions: CAUTIONS.to_vec(),
@@ -475,6 +535,9 @@ impl CheckReport {
         if let Some(l) = &self.landing {
             write_landing(out, &self.cues, l)?;
         }
+        if !self.paintings.is_empty() {
+            write_paintings(out, &self.paintings)?;
+        }
         writeln!(out, "\nWarnings: {}", self.warnings.len())?;
         for w in &self.warnings {
             writeln!(
@@ -503,10 +566,16 @@ fn at(w: &Option<When>) -> String {
 }
 
 fn write_prop(out: &mut dyn Write, p: &PropFigures) -> io::Result<()> {
-    writeln!(out, "\nProp {}", p.name)?;
+    let staff = !p.ends.is_empty();
+    if staff {
+        writeln!(out, "\nProp {} (staff: the worst of both ends)", p.name)?;
+    } else {
+        writeln!(out, "\nProp {}", p.name)?;
+    }
     writeln!(
         out,
-        "  head speed     up to {:.3} m/s {}",
+        "  {}     up to {:.3} m/s {}",
+        if staff { "end speed " } else { "head speed" },
         p.max_speed_m_s,
         at(&p.max_speed_at)
     )?;
@@ -516,21 +585,46 @@ fn write_prop(out: &mut dyn Write, p: &PropFigures) -> io::Result<()> {
         p.max_acc_g,
         at(&p.max_acc_at)
     )?;
+    let (force, weight) = if staff {
+        ("rod force ", "end weight")
+    } else {
+        ("tension   ", "head weight")
+    };
     writeln!(
         out,
-        "  tension        from {:.3} N ({:.2} x head weight) {}",
+        "  {force}     from {:.3} N ({:.2} x {weight}) {}",
         p.min_tension_n,
         p.min_tension_weights,
         at(&p.min_tension_at)
     )?;
     writeln!(
         out,
-        "                 to {:.3} N ({:.2} x head weight) {}",
+        "                 to {:.3} N ({:.2} x {weight}) {}",
         p.max_tension_n,
         p.max_tension_weights,
         at(&p.max_tension_at)
     )?;
-    writeln!(out, "  slack          {:.3} s in all", p.slack_s)?;
+    if staff {
+        writeln!(
+            out,
+            "                 (the rod's axial force at each end: negative pushes; a staff is never slack)"
+        )?;
+        for e in &p.ends {
+            writeln!(
+                out,
+                "  {} end{:w$} {:.3} m/s, {:.3} to {:.3} N, reach {:.3} m",
+                e.end,
+                "",
+                e.max_speed_m_s,
+                e.min_tension_n,
+                e.max_tension_n,
+                e.reach_m,
+                w = 10 - e.end.len()
+            )?;
+        }
+    } else {
+        writeln!(out, "  slack          {:.3} s in all", p.slack_s)?;
+    }
     writeln!(
         out,
         "  spin           hand up to {:.2} turns/s, head up to {:.2} turns/s",
@@ -631,6 +725,35 @@ fn write_landing(out: &mut dyn Write, cues: &[CueLanding], l: &LandingSummary) -
                 c.cue, c.prop, c.at, c.bars[0], c.bars[1]
             )?,
         }
+    }
+    Ok(())
+}
+
+fn write_paintings(out: &mut dyn Write, paintings: &[PaintingCoverage]) -> io::Result<()> {
+    writeln!(
+        out,
+        "\nPaintings (texels some LED passes within one texel width)"
+    )?;
+    for c in paintings {
+        let share = c.covered_fraction.map_or_else(
+            || "no visible texels".to_string(),
+            |f| format!("{:.1} %", 100.0 * f),
+        );
+        let travel = c
+            .max_frame_travel_texels
+            .map_or_else(String::new, |t| format!(", up to {t:.2} texels per frame"));
+        writeln!(
+            out,
+            "  cue {} {} `{}` bars {}-{}: {share} of {} texels ({:.1} mm) in {:.3} s of painting{travel}",
+            c.cue,
+            c.prop,
+            c.file,
+            c.bars[0],
+            c.bars[1],
+            c.texels,
+            c.texel_m * 1000.0,
+            c.painting_s
+        )?;
     }
     Ok(())
 }

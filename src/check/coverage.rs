@@ -1,0 +1,621 @@
+//! Picture coverage: how much of each painting cue's picture the prop's
+//! LEDs actually pass.
+//!
+//! A painting cue shows, on every LED and every frame, the picture's colour
+//! where the LED is ([`crate::cues`]). The picture appears in the light only
+//! where some LED goes: a visible texel (alpha above 0) counts as *covered*
+//! when the path of some LED of the prop passes within one texel width of
+//! its centre, measured in the plane (texel width = `width_m / picture
+//! width`) while the cue paints. The cue paints during its bars, less the
+//! bars where a later cue on the same prop overrides it and the stretches
+//! where the prop rests (a resting prop is in no plane and paints nothing).
+//!
+//! Each LED's path is followed in the picture's own frame: for `fixed_to =
+//! "hand"` the picture turns `360 * phase` degrees clockwise (negated for a
+//! mirrored placement), exactly as [`crate::cues`] paints it, so the path
+//! relative to the picture includes that turn. The path is sampled on the
+//! beat axis in equal steps no longer than half a texel width for any LED:
+//! the step comes from a bound on the speed relative to the picture, the sum
+//! of every rotating term's radius times its rate (plus the picture's turn
+//! times the largest distance from the picture's centre). Consecutive samples
+//! are joined by straight chords and a texel is marked when its centre lies
+//! within one texel width of a chord; as each chord is at most half a texel
+//! long, the chords stay within a quarter texel of the true path, and in
+//! practice much nearer (a chord of length c on a turn of radius r strays
+//! c^2 / 8r from it). Frame rate and tempo do not change which texels the
+//! paths pass; they change how sharply the frames paint them, which the
+//! figure `max_frame_travel_texels` reports (how far an LED moves across the
+//! picture during one frame).
+//!
+//! The work is `LED-steps x texels tested per step`; a show that would need
+//! more than [`MAX_TEXEL_TESTS`] is refused before any is done. The steps
+//! run in parallel chunks that mark a shared bit set; the result (a union)
+//! does not depend on the order.
+
+use std::sync::atomic::{AtomicU64, Ordering};
+
+use rayon::prelude::*;
+use serde::Serialize;
+
+use super::kin::pieces;
+use super::report::{Warning, WarningKind, When, r9, r9_opt};
+use crate::model::{FixedTo, Painting, Prop, Show};
+use crate::motion::{PropMotion, Span};
+
+/// A painting whose LEDs pass less than this fraction of its visible
+/// texels warns: our own choice, not a standard.
+pub const MIN_COVERED_FRACTION: f64 = 0.9;
+
+/// The most texel tests the coverage pass may make over a whole show:
+/// about 20 s of work on two cores in release (a one-minute 144-LED staff
+/// painting a 256-texel-wide picture 1.6 m wide needs about 4.4e8, half a
+/// second; 1024 texels wide, 1.8e9 and 2 to 4 s).
+pub const MAX_TEXEL_TESTS: f64 = 1e10;
+
+/// Steps in one parallel chunk of a stretch.
+const CHUNK_STEPS: usize = 512;
+
+/// The coverage figures of one painting cue.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct PaintingCoverage {
+    /// Index into the show's cues, from 0 in file order.
+    pub cue: usize,
+    /// The prop's name.
+    pub prop: String,
+    /// The picture file as the show names it.
+    pub file: String,
+    /// First and last bar of the cue, inclusive.
+    pub bars: [u32; 2],
+    /// Visible texels of the picture (alpha above 0).
+    pub texels: usize,
+    /// Visible texels that some LED passes within one texel width.
+    pub covered_texels: usize,
+    /// `covered_texels / texels` (null for a picture with no visible texel).
+    #[serde(serialize_with = "r9_opt")]
+    pub covered_fraction: Option<f64>,
+    /// Texel width in the plane, metres: the distance that counts as passing.
+    #[serde(serialize_with = "r9")]
+    pub texel_m: f64,
+    /// Seconds during which the cue paints (the prop moves and no later cue
+    /// overrides it).
+    #[serde(serialize_with = "r9")]
+    pub painting_s: f64,
+    /// Farthest an LED moves across the picture during one frame, in texel
+    /// widths (null when the cue never paints). Above 1, the frames paint
+    /// the picture coarser than its texels along the LEDs' paths.
+    #[serde(serialize_with = "r9_opt")]
+    pub max_frame_travel_texels: Option<f64>,
+}
+
+/// Why the coverage pass refuses a show.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct TooMuchPainting {
+    /// The cue that needs the most work, index from 0.
+    pub cue: usize,
+    /// Texel tests needed over the whole show.
+    pub tests: f64,
+}
+
+/// One stretch of a cue's painting: a span at one tempo.
+#[derive(Clone, Copy, Debug)]
+struct Stretch {
+    span: usize,
+    /// Global beats.
+    start: f64,
+    end: f64,
+    beats_per_s: f64,
+    /// Sample steps.
+    steps: usize,
+}
+
+/// What a painting cue needs: its stretches and the work they take.
+#[derive(Clone, Debug)]
+struct Plan {
+    cue: usize,
+    motion: usize,
+    stretches: Vec<Stretch>,
+    tests: f64,
+}
+
+/// Half-open intervals of `[a, b)` not covered by `cuts`.
+fn subtract(a: f64, b: f64, cuts: &[(f64, f64)]) -> Vec<(f64, f64)> {
+    let mut cuts: Vec<(f64, f64)> = cuts.to_vec();
+    cuts.sort_by(|x, y| x.0.total_cmp(&y.0));
+    let mut out = Vec::new();
+    let mut at = a;
+    for (c0, c1) in cuts {
+        if c1 <= at || c0 >= b {
+            continue;
+        }
+        if c0 > at {
+            out.push((at, c0));
+        }
+        at = at.max(c1);
+    }
+    if at < b {
+        out.push((at, b));
+    }
+    out
+}
+
+/// The beat range of cue `ci`, global beats.
+fn cue_beats(show: &Show, ci: usize) -> (f64, f64) {
+    let c = &show.cues[ci];
+    (
+        show.tempo.beat_of_bar(c.first_bar),
+        show.tempo.beat_of_bar(c.last_bar + 1),
+    )
+}
+
+/// A bound on the speed (metres per unit of phase) of the LED `along_m`
+/// metres from the grip relative to `painting`'s picture in `span`: every
+/// rotating term's radius times its rate (the hand's terms, and the rod's
+/// term of radius `|along_m|`), plus, for a picture that turns with the
+/// hand, its turn (one per unit of phase) times a bound on the LED's
+/// distance from the picture's centre.
+fn led_bound(span: &Span, painting: &Painting, along_m: f64) -> f64 {
+    let tau = std::f64::consts::TAU;
+    let mut speed = along_m.abs() * tau * span.rod_turns().abs();
+    let mut radius = along_m.abs();
+    for r in span.hand.rotors() {
+        speed += r.radius_m * tau * r.turns.abs();
+        radius += r.radius_m;
+    }
+    if painting.placement.fixed_to == FixedTo::Hand {
+        let [cr, cu] = painting.placement.centre_m;
+        speed += tau * (radius + cr.hypot(cu));
+    }
+    speed
+}
+
+/// Columns times rows of texels tested around one chord (at most half a
+/// texel width long, grown by a texel width each side).
+fn tests_per_chord(painting: &Painting) -> f64 {
+    let pic = &painting.picture;
+    let sx = painting.placement.width_m / f64::from(pic.width());
+    let sy = painting.placement.height_m / f64::from(pic.height());
+    let cols = 2.5f64.ceil() + 1.0;
+    let rows = (2.5 * sx / sy).ceil() + 1.0;
+    cols * rows
+}
+
+/// The plans of every painting cue of `show`.
+fn plans(show: &Show, motions: &[PropMotion]) -> Vec<Plan> {
+    let mut out = Vec::new();
+    for (ci, cue) in show.cues.iter().enumerate() {
+        let Some(painting) = cue.painting() else {
+            continue;
+        };
+        let Some(mi) = motions.iter().position(|m| m.prop == cue.prop) else {
+            continue;
+        };
+        let motion = &motions[mi];
+        let prop = &show.props[cue.prop];
+        let (a, b) = cue_beats(show, ci);
+        let later: Vec<(f64, f64)> = show
+            .cues
+            .iter()
+            .enumerate()
+            .skip(ci + 1)
+            .filter(|(_, c)| c.prop == cue.prop)
+            .map(|(j, _)| cue_beats(show, j))
+            .collect();
+        let shown = subtract(a, b, &later);
+        let pic = &painting.picture;
+        let texel_m = painting.placement.width_m / f64::from(pic.width());
+        let spots = prop.led_spots();
+        let per_chord = tests_per_chord(painting);
+        let mut stretches = Vec::new();
+        let mut tests = 0.0;
+        for piece in pieces(show, motion) {
+            let Some(si) = piece.span else {
+                continue;
+            };
+            let span = &motion.spans[si];
+            let bound = spots
+                .iter()
+                .map(|s| led_bound(span, painting, s.along_m))
+                .fold(0.0, f64::max)
+                * span.phase_per_beat().abs();
+            for &(x0, x1) in &shown {
+                let (s0, s1) = (x0.max(piece.start_beat), x1.min(piece.end_beat));
+                if s1 <= s0 {
+                    continue;
+                }
+                let n = ((s1 - s0) * bound / (0.5 * texel_m)).ceil().max(1.0);
+                tests += n * spots.len() as f64 * per_chord;
+                stretches.push(Stretch {
+                    span: si,
+                    start: s0,
+                    end: s1,
+                    beats_per_s: piece.beats_per_s,
+                    steps: if n.is_finite() && n < 1e15 {
+                        n as usize
+                    } else {
+                        usize::MAX
+                    },
+                });
+            }
+        }
+        out.push(Plan {
+            cue: ci,
+            motion: mi,
+            stretches,
+            tests,
+        });
+    }
+    out
+}
+
+/// Texel tests the coverage pass of `show` needs (a float, for budgets).
+pub fn tests_needed(show: &Show, motions: &[PropMotion]) -> f64 {
+    plans(show, motions).iter().map(|p| p.tests).sum()
+}
+
+/// Refuses a show whose coverage pass would make more than
+/// [`MAX_TEXEL_TESTS`] texel tests.
+pub fn within_budget(show: &Show, motions: &[PropMotion]) -> Result<(), TooMuchPainting> {
+    budget(&plans(show, motions))
+}
+
+fn budget(plans: &[Plan]) -> Result<(), TooMuchPainting> {
+    let tests: f64 = plans.iter().map(|p| p.tests).sum();
+    if tests.is_nan() || tests > MAX_TEXEL_TESTS {
+        let cue = plans
+            .iter()
+            .max_by(|a, b| a.tests.total_cmp(&b.tests))
+            .map_or(0, |p| p.cue);
+        return Err(TooMuchPainting { cue, tests });
+    }
+    Ok(())
+}
+
+/// The picture's texel grid in its own frame, metres: texel (i, j) has its
+/// centre at `((i + 0.5) sx, (j + 0.5) sy)` (x right, y down).
+struct Grid<'a> {
+    w: usize,
+    h: usize,
+    sx: f64,
+    sy: f64,
+    /// Distance that counts as passing, m.
+    reach: f64,
+    /// Its square, m^2.
+    reach2: f64,
+    /// One bit per texel, row-major.
+    bits: &'a [AtomicU64],
+}
+
+impl Grid<'_> {
+    /// Marks every texel whose centre lies within the passing distance of
+    /// the chord `p`-`q` (picture-frame metres).
+    fn mark(&self, p: [f64; 2], q: [f64; 2]) {
+        let r = self.reach;
+        let range = |lo: f64, hi: f64, s: f64, n: usize| -> Option<(usize, usize)> {
+            let i0 = ((lo - r) / s - 0.5).ceil().max(0.0);
+            let i1 = ((hi + r) / s - 0.5).floor().min(n as f64 - 1.0);
+            (i0 <= i1).then_some((i0 as usize, i1 as usize))
+        };
+        let Some((i0, i1)) = range(p[0].min(q[0]), p[0].max(q[0]), self.sx, self.w) else {
+            return;
+        };
+        let Some((j0, j1)) = range(p[1].min(q[1]), p[1].max(q[1]), self.sy, self.h) else {
+            return;
+        };
+        let d = [q[0] - p[0], q[1] - p[1]];
+        let len2 = d[0] * d[0] + d[1] * d[1];
+        for j in j0..=j1 {
+            let cy = (j as f64 + 0.5) * self.sy;
+            for i in i0..=i1 {
+                let k = j * self.w + i;
+                let (word, bit) = (k / 64, 1u64 << (k % 64));
+                if self.bits[word].load(Ordering::Relaxed) & bit != 0 {
+                    continue;
+                }
+                let cx = (i as f64 + 0.5) * self.sx;
+                let (ex, ey) = (cx - p[0], cy - p[1]);
+                let t = if len2 > 0.0 {
+                    ((ex * d[0] + ey * d[1]) / len2).clamp(0.0, 1.0)
+                } else {
+                    0.0
+                };
+                let (fx, fy) = (ex - t * d[0], ey - t * d[1]);
+                if fx * fx + fy * fy <= self.reach2 {
+                    self.bits[word].fetch_or(bit, Ordering::Relaxed);
+                }
+            }
+        }
+    }
+}
+
+/// What one chunk of steps found: the longest chord (metres, in the
+/// picture's frame) and the farthest an LED got from the anchor (metres).
+#[derive(Clone, Copy, Default)]
+struct ChunkFigures {
+    chord_m: f64,
+    far_m: f64,
+}
+
+/// Marks the texels passed during steps `i0..=i1` of `stretch` (of `span`)
+/// by LEDs at `along` metres from the grip.
+fn run_chunk(
+    span: &Span,
+    painting: &Painting,
+    along: &[f64],
+    stretch: &Stretch,
+    (i0, i1): (usize, usize),
+    grid: &Grid<'_>,
+) -> ChunkFigures {
+    let pic = &painting.picture;
+    let n = stretch.steps as f64;
+    let sense = if span.mirror { -1.0 } else { 1.0 };
+    let mut prev: Vec<[f64; 2]> = Vec::with_capacity(along.len());
+    let mut now: Vec<[f64; 2]> = Vec::with_capacity(along.len());
+    let mut figures = ChunkFigures::default();
+    for i in i0..=i1 {
+        let x = if i == stretch.steps {
+            stretch.end
+        } else {
+            stretch.start + (stretch.end - stretch.start) * (i as f64 / n)
+        };
+        let s = x - span.start_beat;
+        let hand = span.hand.point(span.phase(s));
+        let dir = span.direction(s);
+        let turn = match painting.placement.fixed_to {
+            FixedTo::Stage => 0.0,
+            FixedTo::Hand => 360.0 * span.phase(s) * sense,
+        };
+        let map = painting.placement.to_pixel(pic, turn);
+        now.clear();
+        for &a in along {
+            let p = [hand[0] + a * dir[0], hand[1] + a * dir[1]];
+            figures.far_m = figures.far_m.max(p[0].hypot(p[1]));
+            let [px, py] = map.apply(span.unmirrored(p));
+            now.push([px * grid.sx, py * grid.sy]);
+        }
+        if i > i0 {
+            for (p, q) in prev.iter().zip(&now) {
+                figures.chord_m = figures.chord_m.max((q[0] - p[0]).hypot(q[1] - p[1]));
+                grid.mark(*p, *q);
+            }
+        }
+        std::mem::swap(&mut prev, &mut now);
+    }
+    figures
+}
+
+/// The coverage of every painting cue of `show` (in cue order), with a
+/// `coverage` warning for each below [`MIN_COVERED_FRACTION`]; refuses a
+/// show over the budget ([`within_budget`]) before doing any work.
+pub fn scan(
+    show: &Show,
+    motions: &[PropMotion],
+) -> Result<(Vec<PaintingCoverage>, Vec<Warning>), TooMuchPainting> {
+    let plans = plans(show, motions);
+    budget(&plans)?;
+    let mut figures = Vec::new();
+    let mut warnings = Vec::new();
+    for plan in plans {
+        let cue = &show.cues[plan.cue];
+        let Some(painting) = cue.painting() else {
+            continue;
+        };
+        let motion = &motions[plan.motion];
+        let prop = &show.props[cue.prop];
+        let pic = &painting.picture;
+        let (w, h) = (pic.width() as usize, pic.height() as usize);
+        let sx = painting.placement.width_m / w as f64;
+        let sy = painting.placement.height_m / h as f64;
+        let bits: Vec<AtomicU64> = (0..(w * h).div_ceil(64))
+            .map(|_| AtomicU64::new(0))
+            .collect();
+        let grid = Grid {
+            w,
+            h,
+            sx,
+            sy,
+            reach: sx,
+            reach2: sx * sx,
+            bits: &bits,
+        };
+        let along: Vec<f64> = prop.led_spots().iter().map(|s| s.along_m).collect();
+        let jobs: Vec<(usize, usize, usize)> = plan
+            .stretches
+            .iter()
+            .enumerate()
+            .flat_map(|(k, st)| {
+                let chunks = st.steps.div_ceil(CHUNK_STEPS).max(1);
+                (0..chunks)
+                    .map(move |c| (k, c * CHUNK_STEPS, ((c + 1) * CHUNK_STEPS).min(st.steps)))
+            })
+            .collect();
+        let found: Vec<(usize, ChunkFigures)> = jobs
+            .par_iter()
+            .map(|&(k, i0, i1)| {
+                let st = &plan.stretches[k];
+                let span = &motion.spans[st.span];
+                (k, run_chunk(span, painting, &along, st, (i0, i1), &grid))
+            })
+            .collect();
+        // Longest chord per beat, per stretch, to metres per second.
+        let mut travel: Option<f64> = None;
+        let mut far_m = 0.0f64;
+        for (k, f) in &found {
+            let st = &plan.stretches[*k];
+            let step_beats = (st.end - st.start) / st.steps.max(1) as f64;
+            let per_frame =
+                f.chord_m / step_beats * st.beats_per_s / f64::from(show.frame_rate_hz.max(1));
+            travel = Some(travel.map_or(per_frame, |t: f64| t.max(per_frame)));
+            far_m = far_m.max(f.far_m);
+        }
+        let mut texels = 0usize;
+        let mut covered = 0usize;
+        let mut beyond = 0usize;
+        for j in 0..h {
+            for i in 0..w {
+                if pic.texel(i as u32, j as u32)[3] <= 0.0 {
+                    continue;
+                }
+                texels += 1;
+                let k = j * w + i;
+                if bits[k / 64].load(Ordering::Relaxed) & (1u64 << (k % 64)) != 0 {
+                    covered += 1;
+                } else {
+                    let q = painting
+                        .placement
+                        .to_plane(pic, [i as f64 + 0.5, j as f64 + 0.5], 0.0);
+                    if q[0].hypot(q[1]) > far_m + sx {
+                        beyond += 1;
+                    }
+                }
+            }
+        }
+        let painting_s: f64 = plan
+            .stretches
+            .iter()
+            .map(|s| show.tempo.time_at_beat(s.end) - show.tempo.time_at_beat(s.start))
+            .sum();
+        let fraction = (texels > 0).then(|| covered as f64 / texels as f64);
+        let travel_texels = travel.map(|t| t / sx);
+        let entry = PaintingCoverage {
+            cue: plan.cue,
+            prop: prop.name.clone(),
+            file: painting.file.clone(),
+            bars: [cue.first_bar, cue.last_bar],
+            texels,
+            covered_texels: covered,
+            covered_fraction: fraction,
+            texel_m: sx,
+            painting_s,
+            max_frame_travel_texels: travel_texels,
+        };
+        if let Some(f) = fraction.filter(|&f| f < MIN_COVERED_FRACTION) {
+            warnings.push(warning(show, &entry, f, beyond, far_m, prop));
+        }
+        figures.push(entry);
+    }
+    Ok((figures, warnings))
+}
+
+/// The `coverage` warning of `entry` (covered fraction `f`), with advice
+/// fitting what was found: `beyond` uncovered texels lie beyond the `far_m`
+/// metres the LEDs reach from the anchor; the rest lie between the LEDs'
+/// paths.
+fn warning(
+    show: &Show,
+    entry: &PaintingCoverage,
+    f: f64,
+    beyond: usize,
+    far_m: f64,
+    prop: &Prop,
+) -> Warning {
+    let cue = &show.cues[entry.cue];
+    let start = show.tempo.beat_of_bar(cue.first_bar);
+    let end = show.tempo.beat_of_bar(cue.last_bar + 1);
+    let dur = show.tempo.time_at_beat(end) - show.tempo.time_at_beat(start);
+    let name = &entry.prop;
+    let texel_mm = entry.texel_m * 1000.0;
+    let mut advice: Vec<String> = Vec::new();
+    if entry.painting_s <= 0.0 {
+        advice.push(
+            "the prop rests (or later cues override this one) throughout: place a pattern in these bars"
+                .into(),
+        );
+    } else {
+        let missed = entry.texels - entry.covered_texels;
+        if beyond > 0 {
+            advice.push(format!(
+                "{beyond} of the {missed} missed texels lie beyond the {far_m:.3} m the LEDs reach from the anchor: use a smaller picture or one nearer the anchor, or a longer strip"
+            ));
+        }
+        if missed > beyond {
+            // The widest spacing of neighbouring LEDs on a strip.
+            let gap = prop
+                .strips
+                .iter()
+                .filter(|s| s.leds > 1)
+                .map(|s| (s.to_m - s.from_m) / f64::from(s.leds - 1))
+                .fold(None, |m: Option<f64>, g| Some(m.map_or(g, |m| m.max(g))));
+            let spacing = match gap {
+                Some(g) => format!("LEDs up to {:.1} mm apart on a strip", g * 1000.0),
+                None => format!("{} LED(s) at fixed points", prop.leds),
+            };
+            advice.push(format!(
+                "{} lie between the LEDs' paths ({spacing}, texels {texel_mm:.1} mm): use more LEDs on the strip, or a larger picture",
+                missed - beyond
+            ));
+        }
+        if let Some(t) = entry.max_frame_travel_texels.filter(|&t| t > 1.0) {
+            advice.push(format!(
+                "the LEDs also cross up to {t:.1} texels per frame, so the frames paint it coarser than its texels: a higher frame rate or a slower tempo would paint it sharper"
+            ));
+        }
+    }
+    Warning {
+        kind: WarningKind::Coverage,
+        prop: name.clone(),
+        other_prop: None,
+        at: When::at_beat(show, start),
+        duration_s: Some(dur),
+        value: Some(100.0 * f),
+        limit: Some(100.0 * MIN_COVERED_FRACTION),
+        unit: Some("%"),
+        message: format!(
+            "{name}: cue {} paints `{}` in bars {}-{}, but its LEDs pass within a texel ({texel_mm:.1} mm) of only {:.1} % of its {} visible texels; {}",
+            entry.cue,
+            entry.file,
+            cue.first_bar,
+            cue.last_bar,
+            100.0 * f,
+            entry.texels,
+            advice.join("; ")
+        ),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn subtracting_intervals_leaves_the_uncovered_pieces() {
+        assert_eq!(subtract(0.0, 10.0, &[]), vec![(0.0, 10.0)]);
+        assert_eq!(
+            subtract(0.0, 10.0, &[(8.0, 12.0), (2.0, 3.0), (2.5, 4.0)]),
+            vec![(0.0, 2.0), (4.0, 8.0)]
+        );
+        assert_eq!(subtract(0.0, 10.0, &[(-1.0, 11.0)]), vec![]);
+        assert_eq!(
+            subtract(4.0, 8.0, &[(0.0, 4.0), (8.0, 9.0)]),
+            vec![(4.0, 8.0)]
+        );
+    }
+
+    #[test]
+    fn a_chord_marks_the_texels_within_one_texel_of_it() {
+        // A 10 x 10 grid of 1 m texels; a chord from (2, 5.5) to (7, 5.5)
+        // passes within 1 m of the centres in rows 4 to 6 (y 4.5, 5.5, 6.5)
+        // and columns 1 to 7 (x 1.5 .. 7.5), but only those whose distance
+        // (plane geometry: to the nearest point of the segment) is at most 1.
+        let bits: Vec<AtomicU64> = (0..2).map(|_| AtomicU64::new(0)).collect();
+        let g = Grid {
+            w: 10,
+            h: 10,
+            sx: 1.0,
+            sy: 1.0,
+            reach: 1.0,
+            reach2: 1.0,
+            bits: &bits,
+        };
+        g.mark([2.0, 5.5], [7.0, 5.5]);
+        for j in 0..10 {
+            for i in 0..10 {
+                let (cx, cy) = (i as f64 + 0.5, j as f64 + 0.5);
+                let nx = cx.clamp(2.0, 7.0);
+                let d2 = (cx - nx) * (cx - nx) + (cy - 5.5) * (cy - 5.5);
+                let k = j * 10 + i;
+                let set = bits[k / 64].load(Ordering::Relaxed) & (1 << (k % 64)) != 0;
+                assert_eq!(set, d2 <= 1.0, "texel ({i}, {j})");
+            }
+        }
+    }
+}
