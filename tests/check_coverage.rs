@@ -1,9 +1,12 @@
 //! Picture coverage (`check::coverage`): how much of a painting cue's
 //! picture the prop's LEDs pass, against outside references:
 //! - Plane geometry: the distance from a point p to a circle of centre o and
-//!   radius rho is | |p - o| - rho |; a texel counts when that distance, for
-//!   some LED's circle, is at most one texel width. The area of a disc is
-//!   pi r^2.
+//!   radius rho is | |p - o| - rho |; a texel counts when some LED, at some
+//!   frame's midpoint, is within one texel width of it. With the LED's
+//!   places on its circle a chord c apart (c = 2 rho sin(theta / 2) for a
+//!   turn of theta per frame), every texel within sqrt(w^2 - (c/2)^2) of the
+//!   circle is within w of a place, and none further than w is. The area of
+//!   a disc is pi r^2.
 //! - Rigid-body kinematics: a point turning with the picture at the same
 //!   rate about the same centre stays still relative to it.
 //! - Uniform circular motion: speed w r (Halliday, Resnick and Walker).
@@ -103,9 +106,17 @@ fn coverage_warnings(r: &CheckReport) -> Vec<&glowscore::check::Warning> {
 }
 
 /// Bounds on the visible texels of `pic` (placed at `place`, not turning)
-/// within `w` of some circle about the anchor of a radius in `radii`, by
-/// plane geometry: (count within 0.999 w, count within 1.001 w).
-fn ring_bounds(pic: &Picture, place: &PicturePlacement, radii: &[f64], w: f64) -> (usize, usize) {
+/// that LEDs circling the anchor at the radii `radii`, turning `turn_rad`
+/// radians a frame, come within `w` of at some frame's midpoint, by plane
+/// geometry: (count within 0.999 sqrt(w^2 - (c/2)^2) of some circle, with c
+/// that circle's chord per frame; count within 1.001 w of some circle).
+fn ring_bounds(
+    pic: &Picture,
+    place: &PicturePlacement,
+    radii: &[f64],
+    w: f64,
+    turn_rad: f64,
+) -> (usize, usize) {
     let (nw, nh) = (pic.width(), pic.height());
     let (mut lo, mut hi) = (0, 0);
     for j in 0..nh {
@@ -117,11 +128,16 @@ fn ring_bounds(pic: &Picture, place: &PicturePlacement, radii: &[f64], w: f64) -
                 place.centre_m[0] + ((f64::from(i) + 0.5) / f64::from(nw) - 0.5) * place.width_m;
             let y =
                 place.centre_m[1] + (0.5 - (f64::from(j) + 0.5) / f64::from(nh)) * place.height_m;
+            let near = radii.iter().any(|r| {
+                let c = 2.0 * r * (turn_rad / 2.0).sin();
+                let sure = (w * w - c * c / 4.0).max(0.0).sqrt();
+                ((x * x + y * y).sqrt() - r).abs() <= 0.999 * sure
+            });
             let d = radii
                 .iter()
                 .map(|r| ((x * x + y * y).sqrt() - r).abs())
                 .fold(f64::INFINITY, f64::min);
-            lo += usize::from(d <= 0.999 * w);
+            lo += usize::from(near);
             hi += usize::from(d <= 1.001 * w);
         }
     }
@@ -155,7 +171,7 @@ fn a_disc_inside_the_reach_of_an_isolation_is_covered() {
         .iter()
         .map(|s| (0.1 - s.along_m).abs())
         .collect();
-    let (lo, hi) = ring_bounds(&disc(128), &place, &radii, c.texel_m);
+    let (lo, hi) = ring_bounds(&disc(128), &place, &radii, c.texel_m, TAU / 500.0);
     assert!(
         lo <= c.covered_texels && c.covered_texels <= hi,
         "{lo} <= {} <= {hi}",
@@ -169,7 +185,7 @@ fn a_disc_inside_the_reach_of_an_isolation_is_covered() {
 fn sparse_leds_cover_only_rings_around_their_circles() {
     // Five LEDs 0.1 m apart leave gaps between their rings: each covers the
     // texels within one texel width of its circle (plane geometry), far less
-    // than the disc; the advice names the gaps between the LEDs' paths.
+    // than the disc; the advice names the gaps between the LEDs' places.
     let prop = "tether_m = 0.5\nstrip = { leds = 5, from_m = 0.1, to_m = 0.5 }";
     let pattern = "plane = \"wall\"\nbeats = 2\nhand_radius_m = 0\nhead_turns = 1";
     let place = placement([0.0, 0.0], 1.0, FixedTo::Stage);
@@ -177,7 +193,7 @@ fn sparse_leds_cover_only_rings_around_their_circles() {
     let rep = check(&show);
     let c = only(&rep);
     let radii = [0.1, 0.2, 0.3, 0.4, 0.5];
-    let (lo, hi) = ring_bounds(&disc(100), &place, &radii, c.texel_m);
+    let (lo, hi) = ring_bounds(&disc(100), &place, &radii, c.texel_m, TAU / 500.0);
     assert!(
         lo <= c.covered_texels && c.covered_texels <= hi,
         "{lo} <= {} <= {hi}",
@@ -192,7 +208,9 @@ fn sparse_leds_cover_only_rings_around_their_circles() {
     let warns = coverage_warnings(&rep);
     assert_eq!(warns.len(), 1);
     assert!(
-        warns[0].message.contains("between the LEDs' paths"),
+        warns[0]
+            .message
+            .contains("between the places where the LEDs take their colours"),
         "{}",
         warns[0].message
     );
@@ -225,7 +243,7 @@ fn a_picture_much_larger_than_the_reach_is_covered_in_proportion_and_warns() {
         .iter()
         .map(|s| s.along_m.abs())
         .collect();
-    let (lo, hi) = ring_bounds(&full(), &place, &radii, c.texel_m);
+    let (lo, hi) = ring_bounds(&full(), &place, &radii, c.texel_m, TAU / 500.0);
     assert!(
         lo <= c.covered_texels && c.covered_texels <= hi,
         "{lo} <= {} <= {hi}",
@@ -301,7 +319,7 @@ fn a_picture_turning_with_the_hand_sees_a_still_led() {
                 }
                 let stage = placement([0.0, 0.0], 1.0, FixedTo::Stage);
                 let rep = check(&painted(&text, full(), stage));
-                let (lo, hi) = ring_bounds(&full(), &stage, &[0.25], 0.125);
+                let (lo, hi) = ring_bounds(&full(), &stage, &[0.25], 0.125, TAU / 500.0);
                 assert_eq!((lo, hi), (28, 28));
                 assert_eq!(only(&rep).covered_texels, 28, "{what}");
             }
@@ -345,11 +363,13 @@ fn a_resting_prop_or_an_overriding_cue_paints_nothing() {
 
 #[test]
 fn absurd_work_is_refused_before_it_starts() {
-    // 4000 LEDs painting texels of 2.4 micrometres for 64 bars: far beyond
-    // the budget; the check refuses instead of running for hours.
+    // 4000 LEDs painting at 100000 frames/s for 64 bars (5e10 LED-frames):
+    // far beyond the budget; the check refuses instead of running for hours.
     let prop = "tether_m = 0.5\nstrip = { leds = 4000, from_m = 0.05, to_m = 0.5 }";
     let pattern = "plane = \"wall\"\nbeats = 2\nhand_radius_m = 0\nhead_turns = 1";
-    let text = show_text(prop, pattern, "[1, 64]").replace("bars = [1, 2]", "bars = [1, 64]");
+    let text = show_text(prop, pattern, "[1, 64]")
+        .replace("bars = [1, 2]", "bars = [1, 64]")
+        .replace("frame_rate = 500", "frame_rate = 100000");
     let pic = Picture::from_srgba8(4096, 1, &[255u8; 4 * 4096]).unwrap();
     let show = painted(&text, pic, placement([0.0, 0.0], 0.01, FixedTo::Stage));
     let started = std::time::Instant::now();
@@ -453,4 +473,33 @@ fn a_mirrored_placement_paints_the_mirror_image() {
     // Left as it was, the picture at 3 o'clock now faces an inner point.
     let missed = only(&check(&painted(&mirrored, shape(), right))).covered_texels;
     assert!(missed < plain / 2, "{missed} vs {plain}");
+}
+
+#[test]
+fn a_low_frame_rate_leaves_texels_between_frames() {
+    // The isolation of the first test, painted at 25 frames/s instead of
+    // 500: the LED 0.4 m out moves 2 pi 0.4 / 25 = 0.10 m a frame (uniform
+    // circular motion), about 21 texels of 4.7 mm, so most texels along its
+    // circle never have an LED over them at a frame's midpoint.
+    let prop = "tether_m = 0.5\nstrip = { leds = 60, from_m = 0.02, to_m = 0.5 }";
+    let pattern =
+        "plane = \"wall\"\nbeats = 2\nhand_radius_m = 0.1\nhead_turns = 1\nhead_start_deg = 180";
+    let place = placement([0.0, 0.0], 0.6, FixedTo::Stage);
+    let text = show_text(prop, pattern, "[1, 2]").replace("frame_rate = 500", "frame_rate = 25");
+    let rep = check(&painted(&text, disc(128), place));
+    let c = only(&rep);
+    let f = c.covered_fraction.unwrap();
+    assert!(f < 0.6, "covered {f}");
+    let travel = c.max_frame_travel_texels.unwrap();
+    let want = 2.0 * 0.4 * (PI / 25.0).sin() / c.texel_m;
+    assert!((travel - want).abs() < 0.05 * want, "{travel} vs {want}");
+    let warns = coverage_warnings(&rep);
+    assert_eq!(warns.len(), 1);
+    assert!(
+        warns[0]
+            .message
+            .contains("a higher frame rate or a slower tempo"),
+        "{}",
+        warns[0].message
+    );
 }

@@ -2,33 +2,26 @@
 //! LEDs actually pass.
 //!
 //! A painting cue shows, on every LED and every frame, the picture's colour
-//! where the LED is ([`crate::cues`]). The picture appears in the light only
-//! where some LED goes: a visible texel (alpha above 0) counts as *covered*
-//! when the path of some LED of the prop passes within one texel width of
-//! its centre, measured in the plane (texel width = `width_m / picture
-//! width`) while the cue paints. The cue paints during its bars, less the
-//! bars where a later cue on the same prop overrides it and the stretches
-//! where the prop rests (a resting prop is in no plane and paints nothing).
+//! where the LED is at the frame's midpoint ([`crate::cues`]). The picture
+//! appears in the light only where the LEDs take their colours from it: a
+//! visible texel (alpha above 0) counts as *covered* when some LED of the
+//! prop, at the midpoint of some frame while the cue paints, is within one
+//! texel width of its centre, measured in the plane (texel width =
+//! `width_m / picture width`). So more LEDs, a higher frame rate and a slower
+//! tempo all cover more: an LED that crosses more than a texel per frame
+//! leaves texels between its frames unshown. The cue paints during its bars,
+//! less the bars where a later cue on the same prop overrides it and the
+//! stretches where the prop rests (a resting prop is in no plane and paints
+//! nothing).
 //!
-//! Each LED's path is followed in the picture's own frame: for `fixed_to =
-//! "hand"` the picture turns `360 * phase` degrees clockwise (negated for a
-//! mirrored placement), exactly as [`crate::cues`] paints it, so the path
-//! relative to the picture includes that turn. The path is sampled on the
-//! beat axis in equal steps no longer than half a texel width for any LED:
-//! the step comes from a bound on the speed relative to the picture, the sum
-//! of every rotating term's radius times its rate (plus the picture's turn
-//! times the largest distance from the picture's centre). Consecutive samples
-//! are joined by straight chords and a texel is marked when its centre lies
-//! within one texel width of a chord; as each chord is at most half a texel
-//! long, the chords stay within a quarter texel of the true path, and in
-//! practice much nearer (a chord of length c on a turn of radius r strays
-//! c^2 / 8r from it). Frame rate and tempo do not change which texels the
-//! paths pass; they change how sharply the frames paint them, which the
-//! figure `max_frame_travel_texels` reports (how far an LED moves across the
-//! picture during one frame).
+//! Each LED is placed in the picture's own frame: for `fixed_to = "hand"`
+//! the picture turns `360 * phase` degrees clockwise (negated for a mirrored
+//! placement), exactly as [`crate::cues`] paints it. The figure
+//! `max_frame_travel_texels` reports how far an LED moves across the picture
+//! between one frame's midpoint and the next.
 //!
-//! The work is `LED-steps x texels tested per step`; a show that would need
-//! more than [`MAX_TEXEL_TESTS`] is refused before any is done. The steps
+//! The work is `LED-frames x texels tested per LED`; a show that would need
+//! more than [`MAX_TEXEL_TESTS`] is refused before any is done. The frames
 //! run in parallel chunks that mark a shared bit set; the result (a union)
 //! does not depend on the order.
 
@@ -39,6 +32,7 @@ use serde::Serialize;
 
 use super::kin::pieces;
 use super::report::{Warning, WarningKind, When, r9, r9_opt};
+use crate::cues::frame_of;
 use crate::model::{FixedTo, Painting, Prop, Show};
 use crate::motion::{PropMotion, Span};
 
@@ -52,7 +46,7 @@ pub const MIN_COVERED_FRACTION: f64 = 0.9;
 /// second; 1024 texels wide, 1.8e9 and 2 to 4 s).
 pub const MAX_TEXEL_TESTS: f64 = 1e10;
 
-/// Steps in one parallel chunk of a stretch.
+/// Frames in one parallel chunk of a stretch.
 const CHUNK_STEPS: usize = 512;
 
 /// The coverage figures of one painting cue.
@@ -68,7 +62,8 @@ pub struct PaintingCoverage {
     pub bars: [u32; 2],
     /// Visible texels of the picture (alpha above 0).
     pub texels: usize,
-    /// Visible texels that some LED passes within one texel width.
+    /// Visible texels that some LED is within one texel width of, at the
+    /// midpoint of some frame (where it takes its colour).
     pub covered_texels: usize,
     /// `covered_texels / texels` (null for a picture with no visible texel).
     #[serde(serialize_with = "r9_opt")]
@@ -80,9 +75,9 @@ pub struct PaintingCoverage {
     /// overrides it).
     #[serde(serialize_with = "r9")]
     pub painting_s: f64,
-    /// Farthest an LED moves across the picture during one frame, in texel
-    /// widths (null when the cue never paints). Above 1, the frames paint
-    /// the picture coarser than its texels along the LEDs' paths.
+    /// Farthest an LED moves across the picture from one frame's midpoint to
+    /// the next, in texel widths (null when the cue never paints). Above 1,
+    /// texels along the LEDs' paths can fall between frames.
     #[serde(serialize_with = "r9_opt")]
     pub max_frame_travel_texels: Option<f64>,
 }
@@ -103,8 +98,9 @@ struct Stretch {
     /// Global beats.
     start: f64,
     end: f64,
-    beats_per_s: f64,
-    /// Sample steps.
+    /// The first frame whose midpoint is in the stretch.
+    first_frame: u64,
+    /// Frames whose midpoints are in the stretch.
     steps: usize,
 }
 
@@ -147,35 +143,14 @@ fn cue_beats(show: &Show, ci: usize) -> (f64, f64) {
     )
 }
 
-/// A bound on the speed (metres per unit of phase) of the LED `along_m`
-/// metres from the grip relative to `painting`'s picture in `span`: every
-/// rotating term's radius times its rate (the hand's terms, and the rod's
-/// term of radius `|along_m|`), plus, for a picture that turns with the
-/// hand, its turn (one per unit of phase) times a bound on the LED's
-/// distance from the picture's centre.
-fn led_bound(span: &Span, painting: &Painting, along_m: f64) -> f64 {
-    let tau = std::f64::consts::TAU;
-    let mut speed = along_m.abs() * tau * span.rod_turns().abs();
-    let mut radius = along_m.abs();
-    for r in span.hand.rotors() {
-        speed += r.radius_m * tau * r.turns.abs();
-        radius += r.radius_m;
-    }
-    if painting.placement.fixed_to == FixedTo::Hand {
-        let [cr, cu] = painting.placement.centre_m;
-        speed += tau * (radius + cr.hypot(cu));
-    }
-    speed
-}
-
-/// Columns times rows of texels tested around one chord (at most half a
-/// texel width long, grown by a texel width each side).
-fn tests_per_chord(painting: &Painting) -> f64 {
+/// Columns times rows of texels tested around one LED's place (a texel
+/// width each side).
+fn tests_per_point(painting: &Painting) -> f64 {
     let pic = &painting.picture;
     let sx = painting.placement.width_m / f64::from(pic.width());
     let sy = painting.placement.height_m / f64::from(pic.height());
-    let cols = 2.5f64.ceil() + 1.0;
-    let rows = (2.5 * sx / sy).ceil() + 1.0;
+    let cols = 3.0;
+    let rows = (2.0 * sx / sy).ceil() + 1.0;
     cols * rows
 }
 
@@ -201,39 +176,30 @@ fn plans(show: &Show, motions: &[PropMotion]) -> Vec<Plan> {
             .map(|(j, _)| cue_beats(show, j))
             .collect();
         let shown = subtract(a, b, &later);
-        let pic = &painting.picture;
-        let texel_m = painting.placement.width_m / f64::from(pic.width());
         let spots = prop.led_spots();
-        let per_chord = tests_per_chord(painting);
+        let per_point = tests_per_point(painting);
+        let rate = show.frame_rate_hz;
         let mut stretches = Vec::new();
         let mut tests = 0.0;
         for piece in pieces(show, motion) {
             let Some(si) = piece.span else {
                 continue;
             };
-            let span = &motion.spans[si];
-            let bound = spots
-                .iter()
-                .map(|s| led_bound(span, painting, s.along_m))
-                .fold(0.0, f64::max)
-                * span.phase_per_beat().abs();
             for &(x0, x1) in &shown {
                 let (s0, s1) = (x0.max(piece.start_beat), x1.min(piece.end_beat));
                 if s1 <= s0 {
                     continue;
                 }
-                let n = ((s1 - s0) * bound / (0.5 * texel_m)).ceil().max(1.0);
-                tests += n * spots.len() as f64 * per_chord;
+                let first = frame_of(show.tempo.time_at_beat(s0), rate);
+                let end = frame_of(show.tempo.time_at_beat(s1), rate);
+                let n = end.saturating_sub(first);
+                tests += n as f64 * spots.len() as f64 * per_point;
                 stretches.push(Stretch {
                     span: si,
                     start: s0,
                     end: s1,
-                    beats_per_s: piece.beats_per_s,
-                    steps: if n.is_finite() && n < 1e15 {
-                        n as usize
-                    } else {
-                        usize::MAX
-                    },
+                    first_frame: first,
+                    steps: usize::try_from(n).unwrap_or(usize::MAX),
                 });
             }
         }
@@ -327,17 +293,19 @@ impl Grid<'_> {
     }
 }
 
-/// What one chunk of steps found: the longest chord (metres, in the
-/// picture's frame) and the farthest an LED got from the anchor (metres).
+/// What one chunk of frames found: the farthest an LED moved from one
+/// frame's midpoint to the next (metres, in the picture's frame) and the
+/// farthest an LED got from the anchor (metres).
 #[derive(Clone, Copy, Default)]
 struct ChunkFigures {
     chord_m: f64,
     far_m: f64,
 }
 
-/// Marks the texels passed during steps `i0..=i1` of `stretch` (of `span`)
-/// by LEDs at `along` metres from the grip.
+/// Marks the texels within a texel width of the LEDs at `along` metres from
+/// the grip at the midpoints of frames `i0..i1` of `stretch` (of `span`).
 fn run_chunk(
+    show: &Show,
     span: &Span,
     painting: &Painting,
     along: &[f64],
@@ -346,17 +314,14 @@ fn run_chunk(
     grid: &Grid<'_>,
 ) -> ChunkFigures {
     let pic = &painting.picture;
-    let n = stretch.steps as f64;
+    let rate = f64::from(show.frame_rate_hz);
     let sense = if span.mirror { -1.0 } else { 1.0 };
     let mut prev: Vec<[f64; 2]> = Vec::with_capacity(along.len());
     let mut now: Vec<[f64; 2]> = Vec::with_capacity(along.len());
     let mut figures = ChunkFigures::default();
-    for i in i0..=i1 {
-        let x = if i == stretch.steps {
-            stretch.end
-        } else {
-            stretch.start + (stretch.end - stretch.start) * (i as f64 / n)
-        };
+    for i in i0..i1 {
+        let k = stretch.first_frame + i as u64;
+        let x = show.tempo.beat_at_time((k as f64 + 0.5) / rate);
         let s = x - span.start_beat;
         let hand = span.hand.point(span.phase(s));
         let dir = span.direction(s);
@@ -372,10 +337,12 @@ fn run_chunk(
             let [px, py] = map.apply(span.unmirrored(p));
             now.push([px * grid.sx, py * grid.sy]);
         }
+        for q in &now {
+            grid.mark(*q, *q);
+        }
         if i > i0 {
             for (p, q) in prev.iter().zip(&now) {
                 figures.chord_m = figures.chord_m.max((q[0] - p[0]).hypot(q[1] - p[1]));
-                grid.mark(*p, *q);
             }
         }
         std::mem::swap(&mut prev, &mut now);
@@ -433,18 +400,16 @@ pub fn scan(
             .map(|&(k, i0, i1)| {
                 let st = &plan.stretches[k];
                 let span = &motion.spans[st.span];
-                (k, run_chunk(span, painting, &along, st, (i0, i1), &grid))
+                (
+                    k,
+                    run_chunk(show, span, painting, &along, st, (i0, i1), &grid),
+                )
             })
             .collect();
-        // Longest chord per beat, per stretch, to metres per second.
         let mut travel: Option<f64> = None;
         let mut far_m = 0.0f64;
-        for (k, f) in &found {
-            let st = &plan.stretches[*k];
-            let step_beats = (st.end - st.start) / st.steps.max(1) as f64;
-            let per_frame =
-                f.chord_m / step_beats * st.beats_per_s / f64::from(show.frame_rate_hz.max(1));
-            travel = Some(travel.map_or(per_frame, |t: f64| t.max(per_frame)));
+        for (_, f) in &found {
+            travel = Some(travel.map_or(f.chord_m, |t: f64| t.max(f.chord_m)));
             far_m = far_m.max(f.far_m);
         }
         let mut texels = 0usize;
@@ -540,14 +505,14 @@ fn warning(
                 None => format!("{} LED(s) at fixed points", prop.leds),
             };
             advice.push(format!(
-                "{} lie between the LEDs' paths ({spacing}, texels {texel_mm:.1} mm): use more LEDs on the strip, or a larger picture",
+                "{} lie between the places where the LEDs take their colours ({spacing}, texels {texel_mm:.1} mm): use more LEDs on the strip, or a larger picture",
                 missed - beyond
             ));
-        }
-        if let Some(t) = entry.max_frame_travel_texels.filter(|&t| t > 1.0) {
-            advice.push(format!(
-                "the LEDs also cross up to {t:.1} texels per frame, so the frames paint it coarser than its texels: a higher frame rate or a slower tempo would paint it sharper"
-            ));
+            if let Some(t) = entry.max_frame_travel_texels.filter(|&t| t > 1.0) {
+                advice.push(format!(
+                    "the LEDs cross up to {t:.1} texels from one frame to the next: a higher frame rate or a slower tempo shows more of them"
+                ));
+            }
         }
     }
     Warning {
@@ -560,7 +525,7 @@ fn warning(
         limit: Some(100.0 * MIN_COVERED_FRACTION),
         unit: Some("%"),
         message: format!(
-            "{name}: cue {} paints `{}` in bars {}-{}, but its LEDs pass within a texel ({texel_mm:.1} mm) of only {:.1} % of its {} visible texels; {}",
+            "{name}: cue {} paints `{}` in bars {}-{}, but its LEDs come within a texel ({texel_mm:.1} mm) of only {:.1} % of its {} visible texels on the frames; {}",
             entry.cue,
             entry.file,
             cue.first_bar,

@@ -732,7 +732,7 @@ fn write_landing(out: &mut dyn Write, cues: &[CueLanding], l: &LandingSummary) -
 fn write_paintings(out: &mut dyn Write, paintings: &[PaintingCoverage]) -> io::Result<()> {
     writeln!(
         out,
-        "\nPaintings (texels some LED passes within one texel width)"
+        "\nPaintings (texels some LED comes within one texel width of, at a frame's midpoint)"
     )?;
     for c in paintings {
         let share = c.covered_fraction.map_or_else(
