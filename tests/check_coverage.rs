@@ -129,7 +129,7 @@ fn ring_bounds(
             let y =
                 place.centre_m[1] + (0.5 - (f64::from(j) + 0.5) / f64::from(nh)) * place.height_m;
             let near = radii.iter().any(|r| {
-                let c = 2.0 * r * (turn_rad / 2.0).sin();
+                let c = 2.0 * r * glowscore::num::sin(turn_rad / 2.0);
                 let sure = (w * w - c * c / 4.0).max(0.0).sqrt();
                 ((x * x + y * y).sqrt() - r).abs() <= 0.999 * sure
             });
@@ -491,7 +491,7 @@ fn a_low_frame_rate_leaves_texels_between_frames() {
     let f = c.covered_fraction.unwrap();
     assert!(f < 0.6, "covered {f}");
     let travel = c.max_frame_travel_texels.unwrap();
-    let want = 2.0 * 0.4 * (PI / 25.0).sin() / c.texel_m;
+    let want = 2.0 * 0.4 * glowscore::num::sin(PI / 25.0) / c.texel_m;
     assert!((travel - want).abs() < 0.05 * want, "{travel} vs {want}");
     let warns = coverage_warnings(&rep);
     assert_eq!(warns.len(), 1);
