@@ -363,15 +363,15 @@ fn a_resting_prop_or_an_overriding_cue_paints_nothing() {
 
 #[test]
 fn absurd_work_is_refused_before_it_starts() {
-    // 4000 LEDs painting at 100000 frames/s for 64 bars (5e10 LED-frames):
-    // far beyond the budget; the check refuses instead of running for hours.
+    // 4000 LEDs painting for 64 bars at 500 frames/s (2.6e8 LED-frames) a
+    // picture of 1 x 4096 texels squeezed into a 1 m square: each LED's place
+    // is within a texel width of 8193 rows of texels, 6e12 tests in all, far
+    // beyond the budget; the check refuses instead of running for hours.
     let prop = "tether_m = 0.5\nstrip = { leds = 4000, from_m = 0.05, to_m = 0.5 }";
     let pattern = "plane = \"wall\"\nbeats = 2\nhand_radius_m = 0\nhead_turns = 1";
-    let text = show_text(prop, pattern, "[1, 64]")
-        .replace("bars = [1, 2]", "bars = [1, 64]")
-        .replace("frame_rate = 500", "frame_rate = 100000");
-    let pic = Picture::from_srgba8(4096, 1, &[255u8; 4 * 4096]).unwrap();
-    let show = painted(&text, pic, placement([0.0, 0.0], 0.01, FixedTo::Stage));
+    let text = show_text(prop, pattern, "[1, 64]").replace("bars = [1, 2]", "bars = [1, 64]");
+    let pic = Picture::from_srgba8(1, 4096, &[255u8; 4 * 4096]).unwrap();
+    let show = painted(&text, pic, placement([0.0, 0.0], 1.0, FixedTo::Stage));
     let started = std::time::Instant::now();
     match check_show(&show) {
         Err(CheckError::TooMuchPainting { cue, tests }) => {
@@ -382,6 +382,15 @@ fn absurd_work_is_refused_before_it_starts() {
     }
     let err = check_show(&show).unwrap_err().to_string();
     assert!(err.contains("texel tests"), "{err}");
+    // At 100000 frames/s the same show has 5e10 LED-frames to read for the
+    // light figures alone: refused for that, before anything else.
+    let fast = text.replace("frame_rate = 500", "frame_rate = 100000");
+    match check_show(&common::show(&fast)) {
+        Err(CheckError::TooManyFrames { led_frames }) => {
+            assert!((led_frames - 4000.0 * 100_000.0 * 128.0).abs() < 1.0);
+        }
+        other => panic!("expected a refusal, got {other:?}"),
+    }
     eprintln!("refused in {:?}", started.elapsed());
 }
 

@@ -84,6 +84,11 @@ impl Default for CheckSettings {
 /// million).
 pub const MAX_SAMPLES: f64 = 2e8;
 
+/// The most LED-frames (frames times LEDs, every prop together) the light
+/// figures are read from: about ten seconds of work in release, and more
+/// than the tables `compile` writes (2 GiB of them, 7.2e8 LED-frames).
+pub const MAX_LED_FRAMES: f64 = 1e9;
+
 /// Why a show could not be checked.
 #[derive(Clone, Debug, PartialEq)]
 pub enum CheckError {
@@ -101,6 +106,11 @@ pub enum CheckError {
         /// Texel tests needed over the show.
         tests: f64,
     },
+    /// The show has more than [`MAX_LED_FRAMES`] LED-frames to read.
+    TooManyFrames {
+        /// Frames times LEDs, every prop together.
+        led_frames: f64,
+    },
 }
 
 impl std::fmt::Display for CheckError {
@@ -112,8 +122,12 @@ impl std::fmt::Display for CheckError {
             ),
             CheckError::TooMuchPainting { cue, tests } => write!(
                 f,
-                "checking how much of the pictures the LEDs pass would take {tests:.3e} texel tests, more than the limit of {:.0e} (cue {cue} needs the most): use pictures with fewer texels, fewer LEDs or shorter painting cues",
+                "checking how much of the pictures the LEDs reach would take {tests:.3e} texel tests, more than the limit of {:.0e} (cue {cue} needs the most): use fewer LEDs, a lower frame rate or shorter painting cues",
                 coverage::MAX_TEXEL_TESTS
+            ),
+            CheckError::TooManyFrames { led_frames } => write!(
+                f,
+                "the show has {led_frames:.3e} LED-frames (frames times LEDs) to check, more than the limit of {MAX_LED_FRAMES:.0e}: lower `show.frame_rate`, shorten the show or use fewer LEDs"
             ),
         }
     }
@@ -157,6 +171,11 @@ pub fn within_budget(
     let samples = samples_needed(show, motions, settings);
     if samples.is_nan() || samples > MAX_SAMPLES {
         return Err(CheckError::TooMuchWork { samples });
+    }
+    let leds: f64 = show.props.iter().map(|p| f64::from(p.leds)).sum();
+    let led_frames = show.frame_count() as f64 * leds;
+    if led_frames > MAX_LED_FRAMES {
+        return Err(CheckError::TooManyFrames { led_frames });
     }
     coverage::within_budget(show, motions).map_err(painting_error)
 }
