@@ -230,9 +230,14 @@ fn write_all(
 ) -> Result<(CompileSummary, CheckReport), CompileError> {
     // Within u32: `check_limits` has passed.
     let frames = show.frame_count() as u32;
-    let (tables, figures) = write_tables(show, lights, frames, opts.header_form, dir)?;
-    let report = crate::check::check_with_frames(show, motions, lights, figures, settings)
-        .map_err(|e| CompileError::Check(e.to_string()))?;
+    // The checks of the motion alone run while the tables are written.
+    let (written, motion) = rayon::join(
+        || write_tables(show, lights, frames, opts.header_form, dir),
+        || crate::check::motion_figures(show, motions, settings),
+    );
+    let (tables, figures) = written?;
+    let motion = motion.map_err(|e| CompileError::Check(e.to_string()))?;
+    let report = crate::check::report_of(show, lights, motion, figures, settings);
     let previews = if opts.previews {
         preview::write_previews(show, motions, lights, dir, &opts.preview)?
             .iter()

@@ -251,41 +251,46 @@ struct Grid<'a> {
     bits: &'a [AtomicU64],
 }
 
+/// The largest integer not above `x` (for |x| well within i64), without a
+/// call into the maths library.
+fn floor_i64(x: f64) -> i64 {
+    let t = x as i64;
+    if (t as f64) > x { t - 1 } else { t }
+}
+
 impl Grid<'_> {
     /// Marks every texel whose centre lies within the passing distance of
-    /// the chord `p`-`q` (picture-frame metres).
-    fn mark(&self, p: [f64; 2], q: [f64; 2]) {
-        let r = self.reach;
-        let range = |lo: f64, hi: f64, s: f64, n: usize| -> Option<(usize, usize)> {
-            let i0 = ((lo - r) / s - 0.5).ceil().max(0.0);
-            let i1 = ((hi + r) / s - 0.5).floor().min(n as f64 - 1.0);
+    /// the point `p`, in continuous pixel coordinates (texel (i, j) has its
+    /// centre at (i + 0.5, j + 0.5)).
+    fn mark(&self, p: [f64; 2]) {
+        // Texel i has its centre at i + 0.5: those within r (rx texels) of
+        // x have x - rx - 0.5 <= i <= x + rx - 0.5.
+        let range = |x: f64, rx: f64, n: usize| -> Option<(usize, usize)> {
+            let lo = x - rx - 0.5;
+            let hi = x + rx - 0.5;
+            if !(hi >= 0.0 && lo <= n as f64 - 1.0) {
+                return None;
+            }
+            let i0 = (-floor_i64(-lo)).max(0);
+            let i1 = floor_i64(hi).min(n as i64 - 1);
             (i0 <= i1).then_some((i0 as usize, i1 as usize))
         };
-        let Some((i0, i1)) = range(p[0].min(q[0]), p[0].max(q[0]), self.sx, self.w) else {
+        let Some((i0, i1)) = range(p[0], self.reach / self.sx, self.w) else {
             return;
         };
-        let Some((j0, j1)) = range(p[1].min(q[1]), p[1].max(q[1]), self.sy, self.h) else {
+        let Some((j0, j1)) = range(p[1], self.reach / self.sy, self.h) else {
             return;
         };
-        let d = [q[0] - p[0], q[1] - p[1]];
-        let len2 = d[0] * d[0] + d[1] * d[1];
         for j in j0..=j1 {
-            let cy = (j as f64 + 0.5) * self.sy;
+            let ey = (j as f64 + 0.5 - p[1]) * self.sy;
             for i in i0..=i1 {
                 let k = j * self.w + i;
                 let (word, bit) = (k / 64, 1u64 << (k % 64));
                 if self.bits[word].load(Ordering::Relaxed) & bit != 0 {
                     continue;
                 }
-                let cx = (i as f64 + 0.5) * self.sx;
-                let (ex, ey) = (cx - p[0], cy - p[1]);
-                let t = if len2 > 0.0 {
-                    ((ex * d[0] + ey * d[1]) / len2).clamp(0.0, 1.0)
-                } else {
-                    0.0
-                };
-                let (fx, fy) = (ex - t * d[0], ey - t * d[1]);
-                if fx * fx + fy * fy <= self.reach2 {
+                let ex = (i as f64 + 0.5 - p[0]) * self.sx;
+                if ex * ex + ey * ey <= self.reach2 {
                     self.bits[word].fetch_or(bit, Ordering::Relaxed);
                 }
             }
@@ -318,7 +323,7 @@ fn run_chunk(
     let sense = if span.mirror { -1.0 } else { 1.0 };
     let mut prev: Vec<[f64; 2]> = Vec::with_capacity(along.len());
     let mut now: Vec<[f64; 2]> = Vec::with_capacity(along.len());
-    let mut figures = ChunkFigures::default();
+    let (mut chord2, mut far2) = (0.0f64, 0.0f64);
     for i in i0..i1 {
         let k = stretch.first_frame + i as u64;
         let x = show.tempo.beat_at_time((k as f64 + 0.5) / rate);
@@ -333,21 +338,24 @@ fn run_chunk(
         now.clear();
         for &a in along {
             let p = [hand[0] + a * dir[0], hand[1] + a * dir[1]];
-            figures.far_m = figures.far_m.max(p[0].hypot(p[1]));
-            let [px, py] = map.apply(span.unmirrored(p));
-            now.push([px * grid.sx, py * grid.sy]);
+            far2 = far2.max(p[0] * p[0] + p[1] * p[1]);
+            now.push(map.apply(span.unmirrored(p)));
         }
         for q in &now {
-            grid.mark(*q, *q);
+            grid.mark(*q);
         }
         if i > i0 {
             for (p, q) in prev.iter().zip(&now) {
-                figures.chord_m = figures.chord_m.max((q[0] - p[0]).hypot(q[1] - p[1]));
+                let (dx, dy) = ((q[0] - p[0]) * grid.sx, (q[1] - p[1]) * grid.sy);
+                chord2 = chord2.max(dx * dx + dy * dy);
             }
         }
         std::mem::swap(&mut prev, &mut now);
     }
-    figures
+    ChunkFigures {
+        chord_m: chord2.sqrt(),
+        far_m: far2.sqrt(),
+    }
 }
 
 /// The coverage of every painting cue of `show` (in cue order), with a
@@ -556,31 +564,49 @@ mod tests {
     }
 
     #[test]
-    fn a_chord_marks_the_texels_within_one_texel_of_it() {
-        // A 10 x 10 grid of 1 m texels; a chord from (2, 5.5) to (7, 5.5)
-        // passes within 1 m of the centres in rows 4 to 6 (y 4.5, 5.5, 6.5)
-        // and columns 1 to 7 (x 1.5 .. 7.5), but only those whose distance
-        // (plane geometry: to the nearest point of the segment) is at most 1.
-        let bits: Vec<AtomicU64> = (0..2).map(|_| AtomicU64::new(0)).collect();
-        let g = Grid {
-            w: 10,
-            h: 10,
-            sx: 1.0,
-            sy: 1.0,
-            reach: 1.0,
-            reach2: 1.0,
-            bits: &bits,
-        };
-        g.mark([2.0, 5.5], [7.0, 5.5]);
-        for j in 0..10 {
-            for i in 0..10 {
-                let (cx, cy) = (i as f64 + 0.5, j as f64 + 0.5);
-                let nx = cx.clamp(2.0, 7.0);
-                let d2 = (cx - nx) * (cx - nx) + (cy - 5.5) * (cy - 5.5);
-                let k = j * 10 + i;
-                let set = bits[k / 64].load(Ordering::Relaxed) & (1 << (k % 64)) != 0;
-                assert_eq!(set, d2 <= 1.0, "texel ({i}, {j})");
+    fn a_point_marks_the_texels_within_one_texel_of_it() {
+        // A 10 x 10 grid of 1 m texels: a point marks exactly the texels
+        // whose centres lie within 1 m of it (plane geometry: Euclidean
+        // distance), at the picture's edges and beyond them too.
+        for p in [[4.2, 5.7], [0.1, 0.1], [9.9, 0.0], [-0.8, 5.0], [5.0, 5.0]] {
+            let bits: Vec<AtomicU64> = (0..2).map(|_| AtomicU64::new(0)).collect();
+            let g = Grid {
+                w: 10,
+                h: 10,
+                sx: 1.0,
+                sy: 1.0,
+                reach: 1.0,
+                reach2: 1.0,
+                bits: &bits,
+            };
+            g.mark(p);
+            for j in 0..10 {
+                for i in 0..10 {
+                    let (cx, cy) = (i as f64 + 0.5, j as f64 + 0.5);
+                    let d2 = (cx - p[0]) * (cx - p[0]) + (cy - p[1]) * (cy - p[1]);
+                    let k = j * 10 + i;
+                    let set = bits[k / 64].load(Ordering::Relaxed) & (1 << (k % 64)) != 0;
+                    assert_eq!(set, d2 <= 1.0, "texel ({i}, {j}) for {p:?}");
+                }
             }
+        }
+    }
+
+    #[test]
+    fn floor_matches_the_maths_library() {
+        for x in [
+            0.0,
+            -0.0,
+            0.5,
+            -0.5,
+            1.0,
+            -1.0,
+            2.999,
+            -2.999,
+            1e6 + 0.5,
+            -1e6 - 0.5,
+        ] {
+            assert_eq!(floor_i64(x), x.floor() as i64, "{x}");
         }
     }
 }

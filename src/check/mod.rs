@@ -279,21 +279,43 @@ pub fn check_with_lights(
     check_with_frames(show, motions, lights, frames, settings)
 }
 
-/// Like [`check_with_lights`], with the figures of the frames already read
-/// (the compile gathers them while it writes the tables).
-pub fn check_with_frames(
+/// The figures that come from the motion alone, before any frame is read:
+/// each prop's physics and reach, the pairs' closest approaches, jumps and
+/// picture coverage (see [`motion_figures`]).
+#[derive(Clone, Debug)]
+pub struct MotionFigures {
+    /// Whether any prop moves at all (the stage figures need one).
+    any: bool,
+    centre: [f64; 2],
+    props: Vec<PropFigures>,
+    pairs: Vec<PairFigures>,
+    hands: reach::Bounds,
+    heads: reach::Bounds,
+    /// Collision, slack, spin-rate and jump warnings.
+    warnings: Vec<Warning>,
+    paintings: Vec<coverage::PaintingCoverage>,
+    coverage_warnings: Vec<Warning>,
+}
+
+/// The checks that need only the motion (the compile runs them while it
+/// writes the tables); refuses a show over the budget ([`within_budget`]).
+pub fn motion_figures(
     show: &Show,
     motions: &[PropMotion],
-    lights: &Lights,
-    frames: FrameFigures,
     settings: &CheckSettings,
-) -> Result<CheckReport, CheckError> {
+) -> Result<MotionFigures, CheckError> {
     within_budget(show, motions, settings)?;
     let centre = reach::centre_line(show);
-    let scans: Vec<prop::PropScan> = motions
-        .iter()
-        .map(|m| prop::scan_prop(show, m, settings, centre))
-        .collect();
+    let (scans, painted) = rayon::join(
+        || -> Vec<prop::PropScan> {
+            motions
+                .par_iter()
+                .map(|m| prop::scan_prop(show, m, settings, centre))
+                .collect()
+        },
+        || coverage::scan(show, motions),
+    );
+    let (paintings, coverage_warnings) = painted.map_err(painting_error)?;
     let mut pairs = Vec::new();
     let mut warnings = Vec::new();
     for (i, a) in motions.iter().enumerate() {
@@ -315,6 +337,51 @@ pub fn check_with_frames(
     for m in motions {
         warnings.extend(jumps::jumps(show, m, settings.jump_limit_m));
     }
+    Ok(MotionFigures {
+        any: !motions.is_empty(),
+        centre,
+        props,
+        pairs,
+        hands,
+        heads,
+        warnings,
+        paintings,
+        coverage_warnings,
+    })
+}
+
+/// Like [`check_with_lights`], with the figures of the frames already read
+/// (the compile gathers them while it writes the tables).
+pub fn check_with_frames(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    frames: FrameFigures,
+    settings: &CheckSettings,
+) -> Result<CheckReport, CheckError> {
+    let motion = motion_figures(show, motions, settings)?;
+    Ok(report_of(show, lights, motion, frames, settings))
+}
+
+/// The whole report from the motion's figures and the frames' figures.
+pub fn report_of(
+    show: &Show,
+    lights: &Lights,
+    motion: MotionFigures,
+    frames: FrameFigures,
+    settings: &CheckSettings,
+) -> CheckReport {
+    let MotionFigures {
+        any,
+        centre,
+        mut props,
+        pairs,
+        hands,
+        heads,
+        mut warnings,
+        paintings,
+        coverage_warnings,
+    } = motion;
     let light_scan = frames.light;
     for (pl, figures) in lights.props.iter().zip(&light_scan.props) {
         let name = &show.props[pl.prop].name;
@@ -338,7 +405,6 @@ pub fn check_with_frames(
     let (cue_landings, landing_summary, landing_warnings) =
         landing::scan(show, &lights.landings, settings.tolerance_mm);
     warnings.extend(landing_warnings);
-    let (paintings, coverage_warnings) = coverage::scan(show, motions).map_err(painting_error)?;
     warnings.extend(coverage_warnings);
     let start = show.tempo.start_s();
     let mut report = CheckReport {
@@ -347,8 +413,7 @@ pub fn check_with_frames(
         duration_s: show.end_s() - start,
         props,
         pairs,
-        stage: (!motions.is_empty())
-            .then(|| reach::stage(centre, &hands, &heads, settings.clear_margin_m)),
+        stage: any.then(|| reach::stage(centre, &hands, &heads, settings.clear_margin_m)),
         limits: Some(report::Limits {
             spin_rate_turns_per_s: settings.spin_limit_turns_per_s,
             jump_m: settings.jump_limit_m,
@@ -363,5 +428,5 @@ pub fn check_with_frames(
         cautions: report::CAUTIONS.to_vec(),
     };
     report.finish();
-    Ok(report)
+    report
 }

@@ -57,8 +57,12 @@ pub fn led_bytes(c: LinSrgb<f64>, brightness: f64) -> [u8; 3] {
         if x.is_nan() {
             return 0;
         }
-        // In 0.0..=255.0 after the clamp, so the cast neither wraps nor saturates.
-        (x.clamp(0.0, 1.0) * 255.0).round() as u8
+        // In 0.0..=255.0 after the clamp, so the casts neither wrap nor
+        // saturate. Rounding half away from zero, as `f64::round` does, but
+        // without a call into the maths library: `v - trunc(v)` is exact.
+        let v = x.clamp(0.0, 1.0) * 255.0;
+        let t = v as u8;
+        if v - f64::from(t) >= 0.5 { t + 1 } else { t }
     };
     [byte(c.red), byte(c.green), byte(c.blue)]
 }
@@ -165,6 +169,20 @@ mod tests {
         ];
         for [r, g, b] in cases {
             assert_eq!(led_bytes(to_linear(Srgb::new(r, g, b)), 1.0), [r, g, b]);
+        }
+    }
+
+    #[test]
+    fn led_bytes_round_as_the_standard_library_does_at_every_half() {
+        // Reference: Rust's `f64::round` (half away from zero), at every
+        // half-byte and the doubles either side of it.
+        for k in 0..=255u32 {
+            let half = (f64::from(k) + 0.5) / 255.0;
+            for bits in [half.to_bits() - 1, half.to_bits(), half.to_bits() + 1] {
+                let x = f64::from_bits(bits);
+                let want = (x.clamp(0.0, 1.0) * 255.0).round() as u8;
+                assert_eq!(led_bytes(LinSrgb::new(x, x, x), 1.0), [want; 3], "{x}");
+            }
         }
     }
 

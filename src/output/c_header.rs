@@ -13,6 +13,9 @@ use super::{FrameWriter, OutputError, WriteStats};
 
 /// Table bytes per line of hex text.
 const BYTES_PER_LINE: usize = 12;
+/// Characters of a whole line: four spaces, `0xhh,`, then ` 0xhh,` for
+/// each further byte, and the line feed.
+const LINE_LEN: usize = 4 + 5 + 6 * (BYTES_PER_LINE - 1) + 1;
 
 /// The C identifier of a table's array for a caller-given name (`"left hand"` -> `"left_hand_table"`).
 ///
@@ -93,7 +96,22 @@ impl<W: Write> Write for HexWriter<W> {
         let text = &mut self.line;
         text.clear();
         text.reserve(buf.len() * 6 + buf.len() / BYTES_PER_LINE * 4 + 8);
-        for &b in buf {
+        let mut rest = buf;
+        // Whole lines at once, where a line starts.
+        while self.col == 0 && rest.len() >= BYTES_PER_LINE {
+            let (line, tail) = rest.split_at(BYTES_PER_LINE);
+            let mut out = [0u8; LINE_LEN];
+            out[..4].copy_from_slice(b"    ");
+            out[4..9].copy_from_slice(&HEX_ITEM[usize::from(line[0])][1..]);
+            for (k, &b) in line.iter().enumerate().skip(1) {
+                let at = 9 + 6 * (k - 1);
+                out[at..at + 6].copy_from_slice(&HEX_ITEM[usize::from(b)]);
+            }
+            out[LINE_LEN - 1] = b'\n';
+            text.extend_from_slice(&out);
+            rest = tail;
+        }
+        for &b in rest {
             let item = &HEX_ITEM[usize::from(b)];
             if self.col == 0 {
                 // The first byte of a line: four spaces of indent instead of one.

@@ -211,31 +211,39 @@ impl<W: Write> CompactTableWriter<W> {
         let fs = self.fs;
         let mut pos = 0;
         loop {
-            if pos + fs <= pending.len() {
+            let from = if pos + fs <= pending.len() {
                 let frame = &pending[pos..pos + fs];
                 if self.cand_len == 0 {
                     self.start(frame);
                     pos += fs;
+                    continue;
                 } else if self.try_extend(frame) {
                     pos += fs;
-                } else {
-                    let back = self.resolve()?;
-                    if !back.is_empty() {
-                        let mut next = back;
-                        next.extend_from_slice(&pending[pos..]);
-                        pending = next;
-                        pos = 0;
-                    }
+                    continue;
                 }
+                self.resolve()?
             } else if last && self.cand_len > 0 {
-                let back = self.resolve()?;
-                if !back.is_empty() {
-                    pending = back;
-                    pos = 0;
-                }
+                self.resolve()?
             } else {
                 break;
+            };
+            // The candidate's frames after the stored prefix are fed again,
+            // ahead of the pending ones: in the room the consumed frames
+            // left, when there is enough (the usual case), else in a new queue.
+            let back = &self.cand_buf[from..];
+            if !back.is_empty() {
+                if pos >= back.len() {
+                    pending[pos - back.len()..pos].copy_from_slice(back);
+                    pos -= back.len();
+                } else {
+                    let mut next = Vec::with_capacity(back.len() + pending.len() - pos);
+                    next.extend_from_slice(back);
+                    next.extend_from_slice(&pending[pos..]);
+                    pending = next;
+                    pos = 0;
+                }
             }
+            self.cand_buf.clear();
         }
         pending.drain(..pos);
         self.pending = pending;
@@ -259,8 +267,17 @@ impl<W: Write> CompactTableWriter<W> {
         for (c, (&now, &first)) in frame.iter().zip(&self.cand_first).enumerate() {
             let v = i64::from(now) - i64::from(first);
             // floor((s*j + HALF) / ONE) == v  <=>  v*ONE - HALF <= s*j <= v*ONE + HALF - 1
-            let lo = self.lo[c].max(ceil_div(v * ONE - HALF, j));
-            let hi = self.hi[c].min(floor_div(v * ONE + HALF - 1, j));
+            let (lo, hi) = if j == 1 {
+                // The second frame: no division needed.
+                (v * ONE - HALF, v * ONE + HALF - 1)
+            } else {
+                (
+                    ceil_div(v * ONE - HALF, j),
+                    floor_div(v * ONE + HALF - 1, j),
+                )
+            };
+            let lo = self.lo[c].max(lo);
+            let hi = self.hi[c].min(hi);
             if lo > hi {
                 return false;
             }
@@ -281,32 +298,35 @@ impl<W: Write> CompactTableWriter<W> {
         true
     }
 
-    /// Stores a prefix of the candidate and returns its remaining buffered frames to feed again.
-    fn resolve(&mut self) -> Result<Vec<u8>, OutputError> {
+    /// Stores a prefix of the candidate; returns the offset in `cand_buf` of
+    /// its remaining buffered frames, which must be fed again (the caller
+    /// then clears `cand_buf`).
+    fn resolve(&mut self) -> Result<usize, OutputError> {
         let fs = self.fs;
         let len = self.cand_len;
         let hold = self.cand_hold;
-        let back = if len >= self.fade_min {
+        let from = if len >= self.fade_min {
             if hold == len {
                 self.emit_hold(len)?;
             } else {
                 self.emit_fade(len)?;
             }
-            Vec::new()
+            // `try_extend` emptied the buffer at `fade_min` frames.
+            self.cand_buf.len()
         } else if hold >= self.hold_min {
             self.emit_hold(hold)?;
-            self.cand_buf[hold as usize * fs..].to_vec()
+            hold as usize * fs
         } else {
-            let buf = std::mem::take(&mut self.cand_buf);
-            self.emit_literal(&buf[..fs])?;
-            let back = buf[fs..].to_vec();
-            self.cand_buf = buf;
-            back
+            self.open_literal();
+            self.sink.put(&self.cand_buf[..fs])?;
+            self.data_len += fs as u64;
+            self.emitted += 1;
+            self.stats.literal_frames += 1;
+            fs
         };
         self.cand_len = 0;
         self.cand_hold = 0;
-        self.cand_buf.clear();
-        Ok(back)
+        Ok(from)
     }
 
     /// Appends an index entry for a segment starting at the next frame.
@@ -318,17 +338,13 @@ impl<W: Write> CompactTableWriter<W> {
         });
     }
 
-    fn emit_literal(&mut self, frame: &[u8]) -> Result<(), OutputError> {
+    /// Opens a literal segment for the next frame, unless one is open.
+    fn open_literal(&mut self) {
         if !self.literal_open {
             self.open_segment(SegmentKind::Literal);
             self.literal_open = true;
             self.stats.literal_segments += 1;
         }
-        self.sink.put(frame)?;
-        self.data_len += frame.len() as u64;
-        self.emitted += 1;
-        self.stats.literal_frames += 1;
-        Ok(())
     }
 
     fn emit_hold(&mut self, frames: u32) -> Result<(), OutputError> {
