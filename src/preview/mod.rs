@@ -289,20 +289,7 @@ fn scout(
     (t0, t1): (f64, f64),
 ) -> Result<Cloud, PreviewError> {
     let mut lit = Cloud::new(view);
-    trail::for_each_chunk(
-        show,
-        motions,
-        lights,
-        t0,
-        t1,
-        &|_| SCOUT_SPACING_M,
-        KERNEL_CHUNK,
-        trail::MAX_PIECES,
-        &mut |chunk| {
-            chunk.iter().for_each(|p| lit.add(&p.pos));
-            Ok(())
-        },
-    )?;
+    scout_points(show, motions, lights, (t0, t1), &mut |p| lit.add(p))?;
     if lit.n > 0 {
         return Ok(lit);
     }
@@ -318,16 +305,15 @@ fn scout(
     Ok(all)
 }
 
-/// The nearest depth in front of `cam` of the lit LEDs (coarsely), metres,
-/// or infinity when nothing lit is in front.
-fn nearest_depth(
+/// Every point of light of the window `(t0, t1)` at the coarse spacing of
+/// the scout passes ([`SCOUT_SPACING_M`]), handed to `f` in order.
+fn scout_points(
     show: &Show,
     motions: &[PropMotion],
     lights: &Lights,
-    cam: &Camera,
     (t0, t1): (f64, f64),
-) -> Result<f64, PreviewError> {
-    let mut near = f64::INFINITY;
+    f: &mut dyn FnMut(&Vector3<f64>),
+) -> Result<(), PreviewError> {
     trail::for_each_chunk(
         show,
         motions,
@@ -338,14 +324,28 @@ fn nearest_depth(
         KERNEL_CHUNK,
         trail::MAX_PIECES,
         &mut |chunk| {
-            near = chunk
-                .iter()
-                .filter_map(|p| cam.depth(&p.pos))
-                .filter(|&z| z >= camera::NEAR_M)
-                .fold(near, f64::min);
+            chunk.iter().for_each(|p| f(&p.pos));
             Ok(())
         },
-    )?;
+    )
+    .map(|_| ())
+}
+
+/// The nearest depth in front of `cam` of the lit LEDs (coarsely), metres,
+/// or infinity when nothing lit is in front.
+fn nearest_depth(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    cam: &Camera,
+    (t0, t1): (f64, f64),
+) -> Result<f64, PreviewError> {
+    let mut near = f64::INFINITY;
+    scout_points(show, motions, lights, (t0, t1), &mut |p| {
+        if let Some(z) = cam.depth(p).filter(|&z| z >= camera::NEAR_M) {
+            near = near.min(z);
+        }
+    })?;
     Ok(near)
 }
 

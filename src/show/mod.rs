@@ -311,16 +311,27 @@ fn table_array<'a, 'i>(
     let Some((arr, _)) = ctx.array(root, key, false) else {
         return Vec::new();
     };
+    tables_in(ctx, key, arr, &format!("a table (`[[{key}]]`)"))
+}
+
+/// The tables of the array `arr` at key path `path`, each with its path
+/// (`path[i]`); any other entry is an error saying `expected {what}`.
+fn tables_in<'a, 'i>(
+    ctx: &mut Ctx,
+    path: &str,
+    arr: &'a toml::de::DeArray<'i>,
+    what: &str,
+) -> Vec<(String, &'a DeTable<'i>, std::ops::Range<usize>)> {
     let mut out = Vec::new();
     for (i, v) in arr.iter().enumerate() {
-        let path = format!("{key}[{i}]");
+        let p = format!("{path}[{i}]");
         match v.get_ref() {
-            DeValue::Table(t) => out.push((path, t, v.span())),
+            DeValue::Table(t) => out.push((p, t, v.span())),
             other => {
                 ctx.error(
-                    &path,
+                    &p,
                     v.span(),
-                    format!("expected a table (`[[{key}]]`), got {}", describe(other)),
+                    format!("expected {what}, got {}", describe(other)),
                 );
             }
         }
@@ -582,21 +593,7 @@ fn leds_and_strips(
     let tables: Vec<(String, &DeTable<'_>, std::ops::Range<usize>)> = match v.get_ref() {
         DeValue::Table(tb) => vec![(path.clone(), tb, v.span())],
         DeValue::Array(arr) if !arr.is_empty() && arr.len() <= MAX_STRIPS => {
-            let mut out = Vec::new();
-            for (i, e) in arr.iter().enumerate() {
-                let p = format!("{path}[{i}]");
-                match e.get_ref() {
-                    DeValue::Table(tb) => out.push((p, tb, e.span())),
-                    other => {
-                        ctx.error(
-                            &p,
-                            e.span(),
-                            format!("expected a table, got {}", describe(other)),
-                        );
-                    }
-                }
-            }
-            out
+            tables_in(ctx, &path, arr, "a table")
         }
         other => {
             ctx.error_help(
