@@ -14,9 +14,8 @@
 //! stretches where the prop rests (a resting prop is in no plane and paints
 //! nothing).
 //!
-//! Each LED is placed in the picture's own frame: for `fixed_to = "hand"`
-//! the picture turns `360 * phase` degrees clockwise (negated for a mirrored
-//! placement), exactly as [`crate::cues`] paints it. The figure
+//! Each LED is placed in the picture's own frame with
+//! [`crate::cues::picture_map`], exactly as the frames are painted. The figure
 //! `max_frame_travel_texels` reports how far an LED moves across the picture
 //! between one frame's midpoint and the next.
 //!
@@ -32,8 +31,8 @@ use serde::Serialize;
 
 use super::kin::pieces;
 use super::report::{Warning, WarningKind, When, r9, r9_opt};
-use crate::cues::frame_of;
-use crate::model::{FixedTo, Painting, Prop, Show};
+use crate::cues::{frame_of, picture_map};
+use crate::model::{Painting, Prop, Show};
 use crate::motion::{PropMotion, Span};
 
 /// A painting whose LEDs pass less than this fraction of its visible
@@ -318,9 +317,7 @@ fn run_chunk(
     (i0, i1): (usize, usize),
     grid: &Grid<'_>,
 ) -> ChunkFigures {
-    let pic = &painting.picture;
     let rate = f64::from(show.frame_rate_hz);
-    let sense = if span.mirror { -1.0 } else { 1.0 };
     let mut prev: Vec<[f64; 2]> = Vec::with_capacity(along.len());
     let mut now: Vec<[f64; 2]> = Vec::with_capacity(along.len());
     let (mut chord2, mut far2) = (0.0f64, 0.0f64);
@@ -330,11 +327,7 @@ fn run_chunk(
         let s = x - span.start_beat;
         let hand = span.hand.point(span.phase(s));
         let dir = span.direction(s);
-        let turn = match painting.placement.fixed_to {
-            FixedTo::Stage => 0.0,
-            FixedTo::Hand => 360.0 * span.phase(s) * sense,
-        };
-        let map = painting.placement.to_pixel(pic, turn);
+        let map = picture_map(painting, span, s);
         now.clear();
         for &a in along {
             let p = [hand[0] + a * dir[0], hand[1] + a * dir[1]];

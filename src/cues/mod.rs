@@ -14,8 +14,9 @@ use rayon::prelude::*;
 use crate::colour;
 use crate::events::Event;
 use crate::model::{Along, EventKind, FixedTo, LedSpot, Look, Painting, Show};
-use crate::motion::PropMotion;
+use crate::motion::{PropMotion, Span};
 use crate::num;
+use crate::picture::ToPixel;
 
 /// The frame on which something happening at `t` seconds first shows, at
 /// `rate` frames per second: `ceil(t * rate - 1/2)`, the frame whose start
@@ -303,15 +304,8 @@ impl PropLights {
         let s = beat - span.start_beat;
         let hand = span.hand.point(span.phase(s));
         let dir = span.direction(s);
-        let turn = match painting.placement.fixed_to {
-            FixedTo::Stage => 0.0,
-            FixedTo::Hand => {
-                let sense = if span.mirror { -1.0 } else { 1.0 };
-                360.0 * span.phase(s) * sense
-            }
-        };
         let pic = &painting.picture;
-        let map = painting.placement.to_pixel(pic, turn);
+        let map = picture_map(painting, span, s);
         for (o, spot) in out.iter_mut().zip(&self.spots) {
             let a = spot.along_m;
             let p = [hand[0] + a * dir[0], hand[1] + a * dir[1]];
@@ -415,6 +409,23 @@ pub fn place(show: &Show, motions: &[PropMotion], events: &[Event]) -> Lights {
         props[cue.prop].tracks.push(track);
     }
     Lights { props, landings }
+}
+
+/// The map from plane points (`[right, up]` on the plane's unmirrored
+/// clock, metres from the anchor) to pixels of `painting`'s picture, `s`
+/// beats into `span`: for a picture fixed to the hand, turned `360 x phase`
+/// degrees clockwise (the other way for a mirrored placement, whose hand
+/// turns the other way on the unmirrored clock). The frames and the
+/// coverage check both place the LEDs with it.
+pub fn picture_map(painting: &Painting, span: &Span, s: f64) -> ToPixel {
+    let turn = match painting.placement.fixed_to {
+        FixedTo::Stage => 0.0,
+        FixedTo::Hand => {
+            let sense = if span.mirror { -1.0 } else { 1.0 };
+            360.0 * span.phase(s) * sense
+        }
+    };
+    painting.placement.to_pixel(&painting.picture, turn)
 }
 
 /// Frames of every prop computed at a time by [`for_each_block`].
