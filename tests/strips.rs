@@ -242,6 +242,39 @@ fn a_picture_fixed_to_the_hand_turns_with_it() {
 }
 
 #[test]
+fn a_picture_fixed_to_the_hand_away_from_the_anchor_turns_about_the_anchor() {
+    // Rigid-body kinematics: a picture fixed to the hand turns with it
+    // about the anchor, the centre the hand turns about, and carries its
+    // place with it. Centred 0.25 m above the anchor, the 2 m picture's red
+    // rows have their centres at 1.0 and 0.5 m, its blue ones at 0.0 and
+    // -0.5 m: at 12 o'clock the head-end LED (0.5 m) samples pure red, the
+    // ones at 0.4 and 0.3 m a blend, the tail half pure blue. As the rod
+    // turns with the hand, each LED keeps its place in the picture, so every
+    // frame shows what the first does, mirrored or not.
+    let dir = tmp("paint-hand-offset");
+    let pic = red_over_blue(&dir);
+    for mirror in [false, true] {
+        let mut s = painting_show(
+            &pic,
+            "image_fixed_to = \"hand\"\nimage_centre_m = [0.0, 0.25]",
+        );
+        s.sections[0].placements[0].as_mut().unwrap().mirror = mirror;
+        let l = lights(&s);
+        let first = frame(&s, &l.props[0], 0);
+        assert_eq!(first[2], RED, "mirror {mirror}");
+        assert_eq!(&first[3..], [BLUE; 3], "mirror {mirror}");
+        assert!(first[0] != RED && first[0] != BLUE, "{first:?}");
+        for k in 1..400 {
+            assert_eq!(
+                frame(&s, &l.props[0], k),
+                first,
+                "frame {k}, mirror {mirror}"
+            );
+        }
+    }
+}
+
+#[test]
 fn seventy_two_led_tables_decode_byte_for_byte_in_c() {
     // A 72-LED strip painting, then a gradient and a chase: the reference C
     // decoder (C99, firmware-formats/) reproduces the CSV's bytes from both

@@ -414,18 +414,19 @@ pub fn place(show: &Show, motions: &[PropMotion], events: &[Event]) -> Lights {
 /// The map from plane points (`[right, up]` on the plane's unmirrored
 /// clock, metres from the anchor) to pixels of `painting`'s picture, `s`
 /// beats into `span`: for a picture fixed to the hand, turned `360 x phase`
-/// degrees clockwise (the other way for a mirrored placement, whose hand
-/// turns the other way on the unmirrored clock). The frames and the
-/// coverage check both place the LEDs with it.
+/// degrees clockwise about the anchor, the centre of the hand's turn (the
+/// other way for a mirrored placement, whose hand turns the other way on
+/// the unmirrored clock). The frames and the coverage check both place the
+/// LEDs with it.
 pub fn picture_map(painting: &Painting, span: &Span, s: f64) -> ToPixel {
-    let turn = match painting.placement.fixed_to {
-        FixedTo::Stage => 0.0,
+    let map = painting.placement.to_pixel(&painting.picture, 0.0);
+    match painting.placement.fixed_to {
+        FixedTo::Stage => map,
         FixedTo::Hand => {
             let sense = if span.mirror { -1.0 } else { 1.0 };
-            360.0 * span.phase(s) * sense
+            map.turned_about_anchor(360.0 * span.phase(s) * sense)
         }
-    };
-    painting.placement.to_pixel(&painting.picture, turn)
+    }
 }
 
 /// Frames of every prop computed at a time by [`for_each_block`].
