@@ -307,7 +307,9 @@ struct ChunkFigures {
 }
 
 /// Marks the texels within a texel width of the LEDs at `along` metres from
-/// the grip at the midpoints of frames `i0..i1` of `stretch` (of `span`).
+/// the grip at the midpoints of frames `i0..i1` of `stretch` (of `span`),
+/// and measures the LEDs' travel from each frame to the next, from the frame
+/// before `i0` (the previous chunk's last) on.
 fn run_chunk(
     show: &Show,
     span: &Span,
@@ -321,7 +323,8 @@ fn run_chunk(
     let mut prev: Vec<[f64; 2]> = Vec::with_capacity(along.len());
     let mut now: Vec<[f64; 2]> = Vec::with_capacity(along.len());
     let (mut chord2, mut far2) = (0.0f64, 0.0f64);
-    for i in i0..i1 {
+    let from = i0.saturating_sub(1);
+    for i in from..i1 {
         let k = stretch.first_frame + i as u64;
         let x = show.tempo.beat_at_time((k as f64 + 0.5) / rate);
         let s = x - span.start_beat;
@@ -331,13 +334,17 @@ fn run_chunk(
         now.clear();
         for &a in along {
             let p = [hand[0] + a * dir[0], hand[1] + a * dir[1]];
-            far2 = far2.max(p[0] * p[0] + p[1] * p[1]);
+            if i >= i0 {
+                far2 = far2.max(p[0] * p[0] + p[1] * p[1]);
+            }
             now.push(map.apply(span.unmirrored(p)));
         }
-        for q in &now {
-            grid.mark(*q);
+        if i >= i0 {
+            for q in &now {
+                grid.mark(*q);
+            }
         }
-        if i > i0 {
+        if i > from {
             for (p, q) in prev.iter().zip(&now) {
                 let (dx, dy) = ((q[0] - p[0]) * grid.sx, (q[1] - p[1]) * grid.sy);
                 chord2 = chord2.max(dx * dx + dy * dy);
@@ -583,6 +590,61 @@ mod tests {
                 }
             }
         }
+    }
+
+    #[test]
+    fn a_chunk_measures_the_travel_from_the_frame_before_it() {
+        // An LED 0.5 m out on a plain circle, one turn in 4 beats at 60 bpm
+        // and 100 frames/s, moves 2 x 0.5 sin(pi / 400) m between frames'
+        // midpoints (uniform circular motion): so does it between the last
+        // frame of one chunk and the first of the next.
+        let text = "[show]\nframe_rate = 100\nbpm = 60\nbeats_per_bar = 4\n\
+                    [prop.p]\ntether_m = 0.5\nanchor_m = [0.0, 1.5, 0.0]\n\
+                    [pattern.x]\nplane = \"wall\"\nbeats = 4\nhand_radius_m = 0\nhead_turns = 1\n\
+                    [[section]]\nbars = [1, 1]\np = \"x\"\n";
+        let mut show = crate::show::parse("circle.toml", text.to_string()).unwrap();
+        let picture = crate::picture::Picture::from_srgba8(1, 1, &[255; 4]).unwrap();
+        let painting = Painting {
+            file: "white.png".into(),
+            picture: std::sync::Arc::new(picture),
+            placement: crate::picture::PicturePlacement {
+                centre_m: [0.0, 0.0],
+                width_m: 2.0,
+                height_m: 2.0,
+                rotation_deg: 0.0,
+                fixed_to: crate::picture::FixedTo::Stage,
+            },
+        };
+        show.cues.push(crate::model::Cue {
+            prop: 0,
+            first_bar: 1,
+            last_bar: 1,
+            look: crate::model::Look::Image(painting.clone()),
+        });
+        let motions = crate::motion::simulate(&show);
+        let plan = &plans(&show, &motions)[0];
+        let stretch = &plan.stretches[0];
+        let span = &motions[0].spans[stretch.span];
+        let bits = [AtomicU64::new(0)];
+        let grid = Grid {
+            w: 1,
+            h: 1,
+            sx: 2.0,
+            sy: 2.0,
+            reach: 2.0,
+            reach2: 4.0,
+            bits: &bits,
+        };
+        let run = |i0, i1| run_chunk(&show, span, &painting, &[0.5], stretch, (i0, i1), &grid);
+        let want = 2.0 * 0.5 * crate::num::sin(std::f64::consts::PI / 400.0);
+        for (i0, i1) in [(0, 2), (1, 2), (200, 201)] {
+            let chord = run(i0, i1).chord_m;
+            assert!(
+                (chord - want).abs() < 1e-12,
+                "{i0}..{i1}: {chord} vs {want}"
+            );
+        }
+        assert_eq!(run(0, 1).chord_m, 0.0);
     }
 
     #[test]
