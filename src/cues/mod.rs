@@ -221,19 +221,6 @@ pub struct PropLights {
 }
 
 impl PropLights {
-    /// Where each LED sits, in table order.
-    pub fn spots(&self) -> &[LedSpot] {
-        &self.spots
-    }
-
-    /// True when every LED shows the same colour on every frame (no cue
-    /// spreads its colours or paints).
-    pub fn is_uniform(&self) -> bool {
-        self.tracks
-            .iter()
-            .all(|t| matches!(&t.look, Drawn::Steps(p) if p.along == Along::Solid))
-    }
-
     /// The track that decides frame `k`, if any.
     fn track_at(&self, k: u64) -> Option<&CueTrack> {
         self.tracks

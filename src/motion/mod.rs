@@ -102,12 +102,6 @@ impl Span {
         [cs, sn]
     }
 
-    /// Turns of the prop's direction (grip to head end) per unit of phase:
-    /// the pattern's `head_turns`.
-    pub fn rod_turns(&self) -> f64 {
-        self.tether.turns
-    }
-
     /// The path of the point `along_m` metres from the grip along the prop's
     /// direction (negative: toward a staff's tail end), as a sum of rotating
     /// terms in phase: the hand's terms plus a term of radius `|along_m|`.
