@@ -620,14 +620,7 @@ fn write_tables(
         .zip(&show.props)
         .map(|(w, p)| w.finish(p).map(|t| (p.name.clone(), t)))
         .collect::<Result<_, _>>()?;
-    let light = tally.map_or_else(
-        || LightScan {
-            props: Vec::new(),
-            stage_flash: None,
-            warnings: Vec::new(),
-        },
-        |t| t.finish(show),
-    );
+    let light = tally.map_or_else(LightScan::default, |t| t.finish(show));
     let figures = FrameFigures {
         light,
         compact_table_bytes: tables.iter().map(|(_, t)| Some(t.compact.bytes)).collect(),
