@@ -32,7 +32,7 @@ use serde::Serialize;
 use super::kin::pieces;
 use super::report::{Warning, WarningKind, When, r9, r9_opt};
 use crate::cues::{frame_of, picture_map};
-use crate::model::{Painting, Prop, Show};
+use crate::model::{Painting, Prop, Show, Strip};
 use crate::motion::{PropMotion, Span};
 
 /// A painting whose LEDs pass less than this fraction of its visible
@@ -505,9 +505,8 @@ fn warning(
             let gap = prop
                 .strips
                 .iter()
-                .filter(|s| s.leds > 1)
-                .map(|s| (s.to_m - s.from_m) / f64::from(s.leds - 1))
-                .fold(None, |m: Option<f64>, g| Some(m.map_or(g, |m| m.max(g))));
+                .filter_map(Strip::pitch_m)
+                .reduce(f64::max);
             let spacing = match gap {
                 Some(g) => format!("LEDs up to {:.1} mm apart on a strip", g * 1000.0),
                 None => format!("{} LED(s) at fixed points", prop.leds),
