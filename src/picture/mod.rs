@@ -58,6 +58,9 @@ impl Picture {
             .decode()
             .map_err(|e| format!("cannot decode the picture (PNG or JPEG): {e}"))?;
         let (w, h) = (img.width(), img.height());
+        if w == 0 || h == 0 {
+            return Err("the picture has no texels".into());
+        }
         if u64::from(w) * u64::from(h) > MAX_PIXELS {
             return Err(format!(
                 "the picture is {w}x{h} texels, more than the {MAX_PIXELS} glowscore paints; scale it down"
@@ -89,9 +92,6 @@ impl Picture {
             Picture::from_srgba8(w, h, img.to_rgba8().as_raw())
                 .ok_or_else(|| "the picture's texels do not match its size".to_string())?
         };
-        if w == 0 || h == 0 {
-            return Err("the picture has no texels".into());
-        }
         Ok(pic)
     }
 
