@@ -581,14 +581,13 @@ fn leds_and_strips(
             ),
         };
     };
-    if let Some(l) = t.get("leds") {
-        ctx.error_help(
-            &t.key_path("leds"),
-            l.span(),
-            "give either `leds` or `strip`, not both",
-            "with a strip, the LEDs are counted by its `leds`",
-        );
-    }
+    refuse_keys(
+        ctx,
+        t,
+        &["leds"],
+        |_| "give either `leds` or `strip`, not both".into(),
+        "with a strip, the LEDs are counted by its `leds`",
+    );
     let path = t.key_path("strip");
     let tables: Vec<(String, &DeTable<'_>, std::ops::Range<usize>)> = match v.get_ref() {
         DeValue::Table(tb) => vec![(path.clone(), tb, v.span())],
@@ -794,16 +793,13 @@ fn patterns(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Pattern> {
                     }]
                 }),
             (None, Some(_)) => {
-                if t.get("hand_start_deg").is_some() {
-                    ctx.error_help(
-                        &t.key_path("hand_start_deg"),
-                        t.get("hand_start_deg")
-                            .map(|v| v.span())
-                            .unwrap_or(span.clone()),
-                        "`hand_start_deg` goes with `hand_radius_m`",
-                        "with `hand = [...]`, give each term its own `start_deg`",
-                    );
-                }
+                refuse_keys(
+                    ctx,
+                    t,
+                    &["hand_start_deg"],
+                    |key| format!("`{key}` goes with `hand_radius_m`"),
+                    "with `hand = [...]`, give each term its own `start_deg`",
+                );
                 hand_terms(ctx, t)
             }
             (None, None) => {
@@ -1053,18 +1049,31 @@ fn cues(ctx: &mut Ctx, root: Tbl<'_, '_>, props: &[Prop], names: &Declared) -> V
     out
 }
 
-/// The stepped colours of a cue without `image`.
-fn steps(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Steps> {
-    for key in IMAGE_KEYS {
+/// An error at each of `keys` that `t` holds, as they do not go with what
+/// else it holds: `message(key)`, with `help`.
+fn refuse_keys(
+    ctx: &mut Ctx,
+    t: Tbl<'_, '_>,
+    keys: &[&str],
+    message: impl Fn(&str) -> String,
+    help: &str,
+) {
+    for key in keys {
         if let Some(v) = t.get(key) {
-            ctx.error_help(
-                &t.key_path(key),
-                v.span(),
-                format!("`{key}` goes with `image`"),
-                "add `image = \"picture.png\"`, or leave the key out",
-            );
+            ctx.error_help(&t.key_path(key), v.span(), message(key), help);
         }
     }
+}
+
+/// The stepped colours of a cue without `image`.
+fn steps(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Steps> {
+    refuse_keys(
+        ctx,
+        t,
+        IMAGE_KEYS,
+        |key| format!("`{key}` goes with `image`"),
+        "add `image = \"picture.png\"`, or leave the key out",
+    );
     let at = ctx.string(t, "at", true).and_then(|(name, sp)| {
         let k = EventKind::from_name(&name);
         if k.is_none() {
@@ -1121,16 +1130,13 @@ fn along(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Along> {
         }
     };
     if kind.as_deref() != Some("chase") {
-        for key in ["chase_leds_per_beat", "chase_width_leds"] {
-            if let Some(v) = t.get(key) {
-                ctx.error_help(
-                    &t.key_path(key),
-                    v.span(),
-                    format!("`{key}` goes with `along = \"chase\"`"),
-                    "add `along = \"chase\"`, or leave the key out",
-                );
-            }
-        }
+        refuse_keys(
+            ctx,
+            t,
+            &["chase_leds_per_beat", "chase_width_leds"],
+            |key| format!("`{key}` goes with `along = \"chase\"`"),
+            "add `along = \"chase\"`, or leave the key out",
+        );
     }
     match kind?.as_str() {
         "solid" => Some(Along::Solid),
@@ -1153,16 +1159,17 @@ fn along(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Along> {
 
 /// The picture of a cue with `image`, read from a file beside the show.
 fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Painting> {
-    for key in STEP_KEYS {
-        if let Some(v) = t.get(key) {
-            ctx.error_help(
-                &t.key_path(key),
-                v.span(),
-                format!("`{key}` does not go with `image`: a painting takes its colours from the picture"),
-                "paint the picture in one cue and step colours in another",
-            );
-        }
-    }
+    refuse_keys(
+        ctx,
+        t,
+        STEP_KEYS,
+        |key| {
+            format!(
+                "`{key}` does not go with `image`: a painting takes its colours from the picture"
+            )
+        },
+        "paint the picture in one cue and step colours in another",
+    );
     let (file, file_span) = ctx.string(t, "image", true)?;
     let width = ctx.number_in(t, "image_width_m", true, 0.0, true, 100.0);
     let height = ctx.number_in(t, "image_height_m", false, 0.0, true, 100.0);
