@@ -92,3 +92,34 @@ fn broken_and_oversized_pictures_are_refused() {
     let e = Picture::load(&path).unwrap_err();
     assert!(e.contains("4096x1100"), "{e}");
 }
+
+#[test]
+fn a_path_that_is_not_a_file_is_refused_without_waiting_on_it() {
+    // A named pipe (POSIX mkfifo) would block the reader until something
+    // writes to it; a folder has nothing to decode. Both are refused at once.
+    let fifo = tmp("pipe.png");
+    let _ = std::fs::remove_file(&fifo);
+    let made = std::process::Command::new("mkfifo")
+        .arg(&fifo)
+        .status()
+        .is_ok_and(|s| s.success());
+    let folder = tmp("folder.png");
+    std::fs::create_dir_all(&folder).unwrap();
+    let mut paths = Vec::new();
+    if made {
+        paths.push(fifo);
+    }
+    paths.push(folder);
+    for path in paths {
+        let (tx, rx) = std::sync::mpsc::channel();
+        let p = path.clone();
+        std::thread::spawn(move || {
+            let _ = tx.send(Picture::load(&p).map(|_| ()));
+        });
+        let got = rx
+            .recv_timeout(std::time::Duration::from_secs(10))
+            .unwrap_or_else(|_| panic!("{} still being read after 10 s", path.display()));
+        let e = got.unwrap_err();
+        assert!(e.contains("not a file"), "{}: {e}", path.display());
+    }
+}

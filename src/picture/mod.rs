@@ -40,6 +40,11 @@ impl Picture {
     /// Reads a PNG or JPEG file; the error says what is wrong, in words.
     pub fn load(path: &Path) -> Result<Picture, String> {
         let meta = std::fs::metadata(path).map_err(|e| format!("cannot read the picture: {e}"))?;
+        if !meta.is_file() {
+            // A folder has nothing to read, and a pipe or device would keep
+            // the reader waiting.
+            return Err("the picture's path is not a file".into());
+        }
         if meta.len() > MAX_FILE_BYTES {
             return Err(format!(
                 "the picture file is {} bytes; files larger than {MAX_FILE_BYTES} bytes are refused",
