@@ -15,8 +15,8 @@ use toml::de::{DeTable, DeValue};
 
 use crate::diag::{Diagnostic, Diagnostics, Source, did_you_mean};
 use crate::model::{
-    Along, Cue, End, EventKind, FixedTo, LedDriver, Look, Painting, Pattern, PicturePlacement,
-    Placement, Plane, Prop, PropKind, Section, Show, Steps, Strip, Term,
+    Along, Cue, End, EventKind, FixedTo, LedDriver, Look, Painting, Pattern, Picture,
+    PicturePlacement, Placement, Plane, Prop, PropKind, Section, Show, Steps, Strip, Term,
 };
 use crate::motion::TempoMap;
 use crate::output::WireOrder;
@@ -1017,6 +1017,7 @@ fn placement(
 fn cues(ctx: &mut Ctx, root: Tbl<'_, '_>, props: &[Prop], names: &Declared) -> Vec<Cue> {
     let prop_names: Vec<&str> = names.props.iter().map(String::as_str).collect();
     let mut out = Vec::new();
+    let mut pictures = Pictures::new();
     for (path, table, span) in table_array(ctx, root, "cue") {
         let t = Tbl {
             path: &path,
@@ -1033,7 +1034,7 @@ fn cues(ctx: &mut Ctx, root: Tbl<'_, '_>, props: &[Prop], names: &Declared) -> V
         });
         let bars = ctx.bar_range(t, "bars", MAX_BAR);
         let look = if t.get("image").is_some() {
-            painting(ctx, t).map(Look::Image)
+            painting(ctx, t, &mut pictures).map(Look::Image)
         } else {
             steps(ctx, t).map(Look::Steps)
         };
@@ -1157,8 +1158,13 @@ fn along(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Along> {
     }
 }
 
-/// The picture of a cue with `image`, read from a file beside the show.
-fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Painting> {
+/// The pictures the cues have read, by path: each file is read once, and
+/// the cues that name it share it.
+type Pictures = std::collections::HashMap<std::path::PathBuf, Result<Arc<Picture>, String>>;
+
+/// The picture of a cue with `image`, read from a file beside the show (or
+/// found in `pictures`, when an earlier cue read it).
+fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>, pictures: &mut Pictures) -> Option<Painting> {
     refuse_keys(
         ctx,
         t,
@@ -1221,8 +1227,12 @@ fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Painting> {
         .parent()
         .map(Path::to_path_buf)
         .unwrap_or_default();
-    let picture = match crate::picture::Picture::load(&base.join(&file)) {
-        Ok(p) => Some(p),
+    let path = base.join(&file);
+    let loaded = pictures
+        .entry(path)
+        .or_insert_with_key(|path| Picture::load(path).map(Arc::new));
+    let picture = match loaded {
+        Ok(p) => Some(Arc::clone(p)),
         Err(e) => {
             ctx.error_help(
                 &t.key_path("image"),
@@ -1239,7 +1249,7 @@ fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Painting> {
         height.unwrap_or(width_m * f64::from(picture.height()) / f64::from(picture.width()));
     Some(Painting {
         file,
-        picture: Arc::new(picture),
+        picture,
         placement: PicturePlacement {
             centre_m: centre?,
             width_m,
