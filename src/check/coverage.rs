@@ -19,8 +19,10 @@
 //! `max_frame_travel_texels` reports how far an LED moves across the picture
 //! between one frame's midpoint and the next.
 //!
-//! The work is `LED-frames x texels tested per LED`; a show that would need
-//! more than [`MAX_TEXEL_TESTS`] is refused before any is done. The frames
+//! The work is `LED-frames x texels tested per LED`, and a pass over the
+//! picture's texels for each painting cue to count them; a show that would
+//! need more than [`MAX_TEXEL_TESTS`] tests in all is refused before any is
+//! done. The frames
 //! run in parallel chunks that mark a shared bit set; the result (a union)
 //! does not depend on the order.
 
@@ -42,7 +44,8 @@ pub const MIN_COVERED_FRACTION: f64 = 0.9;
 /// The most texel tests the coverage pass may make over a whole show:
 /// about 20 s of work on two cores in release (a one-minute 144-LED staff
 /// painting a 256-texel-wide picture 1.6 m wide needs about 4.4e8, half a
-/// second; 1024 texels wide, 1.8e9 and 2 to 4 s).
+/// second; 1024 texels wide, 1.8e9 and 2 to 4 s). Counting a picture's
+/// texels afterwards is one test a texel (about 5 ns each, on one core).
 pub const MAX_TEXEL_TESTS: f64 = 1e10;
 
 /// Frames in one parallel chunk of a stretch.
@@ -179,7 +182,9 @@ fn plans(show: &Show, motions: &[PropMotion]) -> Vec<Plan> {
         let per_point = tests_per_point(painting);
         let rate = show.frame_rate_hz;
         let mut stretches = Vec::new();
-        let mut tests = 0.0;
+        // One test for every texel of the picture, counted afterwards.
+        let pic = &painting.picture;
+        let mut tests = f64::from(pic.width()) * f64::from(pic.height());
         for piece in pieces(show, motion) {
             let Some(si) = piece.span else {
                 continue;
@@ -423,6 +428,11 @@ pub fn scan(
         let mut texels = 0usize;
         let mut covered = 0usize;
         let mut beyond = 0usize;
+        // A texel's distance from the anchor: the picture is turned and
+        // moved as a whole, so it is the distance in the picture's own
+        // frame from the anchor's place there (pixel steps times sx, sy).
+        let anchor = painting.placement.to_pixel(pic, 0.0).apply([0.0, 0.0]);
+        let reach2 = (far_m + sx) * (far_m + sx);
         for j in 0..h {
             for i in 0..w {
                 if pic.texel(i as u32, j as u32)[3] <= 0.0 {
@@ -433,10 +443,9 @@ pub fn scan(
                 if bits[k / 64].load(Ordering::Relaxed) & (1u64 << (k % 64)) != 0 {
                     covered += 1;
                 } else {
-                    let q = painting
-                        .placement
-                        .to_plane(pic, [i as f64 + 0.5, j as f64 + 0.5], 0.0);
-                    if q[0].hypot(q[1]) > far_m + sx {
+                    let dx = (i as f64 + 0.5 - anchor[0]) * sx;
+                    let dy = (j as f64 + 0.5 - anchor[1]) * sy;
+                    if dx * dx + dy * dy > reach2 {
                         beyond += 1;
                     }
                 }
