@@ -231,6 +231,13 @@ impl PropMotion {
         (beat < self.spans[i].end_beat).then_some(i)
     }
 
+    /// Where the point `along_m` metres from the grip along the prop (a
+    /// staff's tail half negative) is while the prop rests: the hand at the
+    /// anchor and the prop pointing straight down from it.
+    pub fn rest_point(&self, along_m: f64) -> Vector3<f64> {
+        self.anchor - Vector3::new(0.0, along_m, 0.0)
+    }
+
     /// The state at `t` seconds from frame 0.
     pub fn state_at(&self, tempo: &TempoMap, t: f64) -> State {
         let beat = tempo.beat_at_time(t);
@@ -262,7 +269,7 @@ impl PropMotion {
                 hand_m: self.anchor,
                 hand_vel: Vector3::zeros(),
                 hand_acc: Vector3::zeros(),
-                head_m: self.anchor - Vector3::new(0.0, self.tether_m, 0.0),
+                head_m: self.rest_point(self.tether_m),
                 head_vel: Vector3::zeros(),
                 head_acc: Vector3::zeros(),
                 dir: Vector3::new(0.0, -1.0, 0.0),

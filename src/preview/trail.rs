@@ -447,8 +447,7 @@ fn position(show: &Show, motion: &PropMotion, along_m: f64, t: f64) -> Vector3<f
             let d = span.direction(s);
             span.to_stage([h[0] + along_m * d[0], h[1] + along_m * d[1]])
         }
-        // Resting: hand at the anchor, the prop hanging straight down.
-        None => show.props[motion.prop].anchor_m - Vector3::new(0.0, along_m, 0.0),
+        None => motion.rest_point(along_m),
     }
 }
 
