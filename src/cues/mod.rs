@@ -87,24 +87,29 @@ impl Palette {
         }
     }
 
-    /// The chase band an LED at place `index` of its strip is in at `beat`.
-    fn band(&self, index: u32, beat: f64) -> i64 {
+    /// The chase band an LED at place `index` of its strip is in at `beat`,
+    /// taken round the cycle of colours (0 to the number of colours less 1).
+    /// The band number is a whole float, so that bands of any width count
+    /// without overflow.
+    fn band(&self, index: u32, beat: f64) -> usize {
         match self.along {
             Along::Chase {
                 leds_per_beat,
                 width_leds,
             } => {
                 let x = f64::from(index) - leds_per_beat * (beat - self.start_beat);
-                (x / width_leds).floor() as i64
+                let n = self.colours.len() as f64;
+                // In 0..n (NaN, for an infinite band, casts to 0).
+                (x / width_leds).floor().rem_euclid(n) as usize
             }
             _ => 0,
         }
     }
 
-    /// Colour index `c` moved on by `band` bands, cycling.
-    fn shift(&self, c: usize, band: i64) -> usize {
-        let n = self.colours.len() as i64;
-        (c as i64 + band).rem_euclid(n) as usize
+    /// Colour index `c` moved on by `band` bands (from [`Palette::band`]),
+    /// cycling.
+    fn shift(&self, c: usize, band: usize) -> usize {
+        (c + band) % self.colours.len()
     }
 }
 
