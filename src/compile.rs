@@ -303,12 +303,22 @@ fn write_report(
 const BACKGROUND_CHUNK: usize = 4 << 20;
 /// Chunks waiting for a [`Background`] writer's thread, at most.
 const BACKGROUND_QUEUE: usize = 2;
+/// Bytes a [`Background`] writer without a thread gathers before it writes.
+const HERE_CHUNK: usize = 8 << 10;
+/// Props whose files are written by threads of their own (one a file);
+/// the files of any further prop are written by the thread that makes their
+/// frames, so that a show of many props starts a bounded number of threads.
+const THREADED_PROPS: usize = 8;
 
-/// A writer whose bytes are written to `W` by a thread of its own, in
-/// chunks, in order: formatting and the operating system's copying of large
-/// files then overlap with the work that produces them.
+/// A writer whose bytes are written to `W` in chunks, in order, by a thread
+/// of its own (formatting and the operating system's copying of large files
+/// then overlap with the work that produces them) or, made with
+/// [`Background::here`], by the caller.
 struct Background<W: Write + Send + 'static> {
     buf: Vec<u8>,
+    chunk: usize,
+    /// Where the bytes go without a thread.
+    here: Option<W>,
     tx: Option<SyncSender<Vec<u8>>>,
     thread: Option<JoinHandle<std::io::Result<W>>>,
 }
@@ -326,13 +336,40 @@ impl<W: Write + Send + 'static> Background<W> {
         });
         Background {
             buf: Vec::with_capacity(BACKGROUND_CHUNK),
+            chunk: BACKGROUND_CHUNK,
+            here: None,
             tx: Some(tx),
             thread: Some(thread),
         }
     }
 
+    /// Writes to `inner` on the caller's thread, in chunks.
+    fn here(inner: W) -> Self {
+        Background {
+            buf: Vec::with_capacity(HERE_CHUNK),
+            chunk: HERE_CHUNK,
+            here: Some(inner),
+            tx: None,
+            thread: None,
+        }
+    }
+
+    /// [`Background::new`] when `threaded`, else [`Background::here`].
+    fn with_thread(inner: W, threaded: bool) -> Self {
+        if threaded {
+            Background::new(inner)
+        } else {
+            Background::here(inner)
+        }
+    }
+
     fn send(&mut self) -> std::io::Result<()> {
-        let chunk = std::mem::replace(&mut self.buf, Vec::with_capacity(BACKGROUND_CHUNK));
+        if let Some(w) = self.here.as_mut() {
+            w.write_all(&self.buf)?;
+            self.buf.clear();
+            return Ok(());
+        }
+        let chunk = std::mem::replace(&mut self.buf, Vec::with_capacity(self.chunk));
         match self.tx.as_ref() {
             Some(tx) if tx.send(chunk).is_ok() => Ok(()),
             // The thread stopped on an error; `finish` reports it.
@@ -348,6 +385,11 @@ impl<W: Write + Send + 'static> Background<W> {
         } else {
             self.send()
         };
+        if let Some(mut w) = self.here.take() {
+            sent?;
+            w.flush()?;
+            return Ok(w);
+        }
         self.tx = None;
         let joined = match self.thread.take().map(JoinHandle::join) {
             Some(Ok(r)) => r,
@@ -362,14 +404,14 @@ impl<W: Write + Send + 'static> Background<W> {
 impl<W: Write + Send + 'static> Write for Background<W> {
     fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
         self.buf.extend_from_slice(buf);
-        if self.buf.len() >= BACKGROUND_CHUNK {
+        if self.buf.len() >= self.chunk {
             self.send()?;
         }
         Ok(buf.len())
     }
 
     fn flush(&mut self) -> std::io::Result<()> {
-        // The thread flushes `W` when it finishes.
+        // `W` is flushed when the writer finishes.
         Ok(())
     }
 }
@@ -434,6 +476,7 @@ impl PropWriters {
         header_form: TableForm,
         dir: &Path,
     ) -> Result<PropWriters, CompileError> {
+        let threaded = prop < THREADED_PROPS;
         let prop = &show.props[prop];
         let spec = TableSpec {
             frame_rate_hz: show.frame_rate_hz,
@@ -452,27 +495,25 @@ impl PropWriters {
             File::create(&path)
                 .map_err(|e| CompileError::Io(format!("cannot create `{}`: {e}", path.display())))
         };
-        let header = Background::new(CHeaderText::new(
-            open(&names[3])?,
-            spec,
-            &prop.name,
-            header_form,
-        )?);
+        let header = Background::with_thread(
+            CHeaderText::new(open(&names[3])?, spec, &prop.name, header_form)?,
+            threaded,
+        );
         let (mut full_header, mut compact_header) = (None, None);
         match header_form {
             TableForm::Full => full_header = Some(header),
             TableForm::Compact => compact_header = Some(header),
         }
         let full = TableOut {
-            file: Background::new(open(&names[1])?),
+            file: Background::with_thread(open(&names[1])?, threaded),
             header: full_header,
         };
         let compact = TableOut {
-            file: Background::new(open(&names[2])?),
+            file: Background::with_thread(open(&names[2])?, threaded),
             header: compact_header,
         };
         Ok(PropWriters {
-            csv: CsvWriter::new(Background::new(open(&names[0])?), spec)?,
+            csv: CsvWriter::new(Background::with_thread(open(&names[0])?, threaded), spec)?,
             full: FullTableWriter::new(full, spec)?,
             compact: CompactTableWriter::new(compact, spec)?,
             names,
@@ -579,17 +620,99 @@ fn write_tables(
         .zip(&show.props)
         .map(|(w, p)| w.finish(p).map(|t| (p.name.clone(), t)))
         .collect::<Result<_, _>>()?;
-    let light = tally.map_or_else(
-        || LightScan {
-            props: Vec::new(),
-            stage_flash: None,
-            warnings: Vec::new(),
-        },
-        |t| t.finish(show),
-    );
+    let light = tally.map_or_else(LightScan::default, |t| t.finish(show));
     let figures = FrameFigures {
         light,
         compact_table_bytes: tables.iter().map(|(_, t)| Some(t.compact.bytes)).collect(),
     };
     Ok((tables, figures))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Threads of this process, from Linux's `/proc` (`None` elsewhere).
+    fn threads() -> Option<usize> {
+        let status = fs::read_to_string("/proc/self/status").ok()?;
+        let line = status.lines().find(|l| l.starts_with("Threads:"))?;
+        line["Threads:".len()..].trim().parse().ok()
+    }
+
+    #[test]
+    fn many_props_start_a_bounded_number_of_writing_threads() {
+        // Each prop has four files; a thread for every file of 200 props
+        // would be 800 threads (thousands of props exhaust the system's
+        // threads and abort the process).
+        let Some(before) = threads() else {
+            return;
+        };
+        let mut text = String::from("[show]\nframe_rate = 10\nbpm = 60\nbeats_per_bar = 1\n");
+        for i in 0..200 {
+            text += &format!("[prop.p{i}]\ntether_m = 0.5\nanchor_m = [0.0, 1.4, 0.0]\n");
+        }
+        text += "[pattern.w]\nplane = \"wall\"\nbeats = 1\nhand_radius_m = 0.1\nhead_turns = 1\n";
+        text += "[[section]]\nbars = [1, 1]\np0 = \"w\"\n";
+        let show = crate::show::parse("many.toml", text).unwrap();
+        let dir = std::env::temp_dir().join(format!("glowscore-threads-{}", std::process::id()));
+        fs::create_dir_all(&dir).unwrap();
+        let writers: Vec<PropWriters> = (0..show.props.len())
+            .map(|i| PropWriters::open(&show, i, 10, TableForm::Full, &dir).unwrap())
+            .collect();
+        let during = threads().unwrap();
+        drop(writers);
+        let _ = fs::remove_dir_all(&dir);
+        assert!(
+            during < before + 4 * THREADED_PROPS + 32,
+            "{before} threads before, {during} with the writers open"
+        );
+    }
+
+    #[test]
+    fn files_written_without_a_thread_hold_the_same_bytes() {
+        // Props beyond THREADED_PROPS are written on the frames' thread: two
+        // props that play the same (the first and the last of ten) get the
+        // same tables, and headers that differ only in the prop's name.
+        let mut text = String::from("[show]\nframe_rate = 200\nbpm = 120\nbeats_per_bar = 4\n");
+        let n = THREADED_PROPS + 2;
+        for i in 0..n {
+            text += &format!(
+                "[prop.p{i}]\ntether_m = 0.5\nanchor_m = [0.0, 1.4, 0.0]\n\
+                 strip = {{ leds = 40, from_m = 0.05, to_m = 0.5 }}\n"
+            );
+        }
+        text += "[pattern.w]\nplane = \"wall\"\nbeats = 4\nhand_radius_m = 0.1\nhead_turns = -3\n";
+        text += "[[section]]\nbars = [1, 8]\n";
+        for i in 0..n {
+            text += &format!("p{i} = \"w\"\n");
+        }
+        for i in 0..n {
+            text += &format!(
+                "[[cue]]\nprop = \"p{i}\"\nbars = [1, 8]\nat = \"tip\"\nalong = \"gradient\"\n\
+                 colours = [\"gold\", \"teal\", \"crimson\"]\nfade_beats = 0.5\n"
+            );
+        }
+        let show = crate::show::parse("same.toml", text).unwrap();
+        let dir = std::env::temp_dir().join(format!("glowscore-here-{}", std::process::id()));
+        let mut opts = CompileOptions::new(dir.clone());
+        opts.previews = false;
+        compile(&show, &opts).unwrap();
+        let last = format!("p{}", n - 1);
+        for ext in ["csv", "full.bin", "compact.bin", "h"] {
+            let a = fs::read(dir.join(format!("p0.{ext}"))).unwrap();
+            let b = fs::read(dir.join(format!("{last}.{ext}"))).unwrap();
+            let b = if ext == "h" {
+                String::from_utf8(b)
+                    .unwrap()
+                    .replace(&last, "p0")
+                    .replace(&last.to_uppercase(), "P0")
+                    .into_bytes()
+            } else {
+                b
+            };
+            assert!(a.len() > 1000, "{ext}: {} bytes", a.len());
+            assert!(a == b, "p0.{ext} and {last}.{ext} differ");
+        }
+        let _ = fs::remove_dir_all(&dir);
+    }
 }

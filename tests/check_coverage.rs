@@ -512,3 +512,27 @@ fn a_low_frame_rate_leaves_texels_between_frames() {
         warns[0].message
     );
 }
+
+#[test]
+fn counting_the_texels_of_many_hidden_paintings_is_work_too() {
+    // 2400 painting cues of a 2048 x 2048 picture, each hidden by the next
+    // (the later cue wins), so no LED-frame paints but the last's: every
+    // cue's texels are still counted for the report, 2400 x 4.2e6 = 1.0e10
+    // texel visits, beyond the budget. Refused before any is made.
+    let prop = "tether_m = 0.5";
+    let pattern = "plane = \"wall\"\nbeats = 2\nhand_radius_m = 0\nhead_turns = 1";
+    let text = show_text(prop, pattern, "[1, 2]");
+    let pic = Picture::from_srgba8(2048, 2048, &vec![255u8; 4 * 2048 * 2048]).unwrap();
+    let mut show = painted(&text, pic, placement([0.0, 0.0], 1.0, FixedTo::Stage));
+    let cue = show.cues[0].clone();
+    show.cues.extend(std::iter::repeat_n(cue, 2399));
+    let motions = glowscore::motion::simulate(&show);
+    let tests = glowscore::check::coverage::tests_needed(&show, &motions);
+    assert!(tests >= 2400.0 * 2048.0 * 2048.0, "{tests:e}");
+    match check_show(&show) {
+        Err(CheckError::TooMuchPainting { tests, .. }) => {
+            assert!(tests > glowscore::check::coverage::MAX_TEXEL_TESTS);
+        }
+        other => panic!("expected a refusal, got {:?}", other.map(|_| ())),
+    }
+}

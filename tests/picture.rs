@@ -92,3 +92,69 @@ fn broken_and_oversized_pictures_are_refused() {
     let e = Picture::load(&path).unwrap_err();
     assert!(e.contains("4096x1100"), "{e}");
 }
+
+#[test]
+fn a_path_that_is_not_a_file_is_refused_without_waiting_on_it() {
+    // A named pipe (POSIX mkfifo) would block the reader until something
+    // writes to it; a folder has nothing to decode. Both are refused at once.
+    let fifo = tmp("pipe.png");
+    let _ = std::fs::remove_file(&fifo);
+    let made = std::process::Command::new("mkfifo")
+        .arg(&fifo)
+        .status()
+        .is_ok_and(|s| s.success());
+    let folder = tmp("folder.png");
+    std::fs::create_dir_all(&folder).unwrap();
+    let mut paths = Vec::new();
+    if made {
+        paths.push(fifo);
+    }
+    paths.push(folder);
+    for path in paths {
+        let (tx, rx) = std::sync::mpsc::channel();
+        let p = path.clone();
+        std::thread::spawn(move || {
+            let _ = tx.send(Picture::load(&p).map(|_| ()));
+        });
+        let got = rx
+            .recv_timeout(std::time::Duration::from_secs(10))
+            .unwrap_or_else(|_| panic!("{} still being read after 10 s", path.display()));
+        let e = got.unwrap_err();
+        assert!(e.contains("not a file"), "{}: {e}", path.display());
+    }
+}
+
+#[test]
+fn cues_that_name_one_picture_share_it() {
+    // Read once: every cue painting `dots.png` holds the same decoded
+    // picture (a show may name one picture in many cues; each copy of a
+    // 4-million-texel picture would take 64 MB).
+    let pic = tmp("dots.png");
+    image::RgbaImage::from_pixel(4, 2, image::Rgba([255, 200, 0, 255]))
+        .save(&pic)
+        .unwrap();
+    let mut text = String::from(
+        "[show]\nframe_rate = 100\nbpm = 60\nbeats_per_bar = 4\n\
+         [prop.p]\ntether_m = 0.5\nanchor_m = [0.0, 1.5, 0.0]\n\
+         [pattern.x]\nplane = \"wall\"\nbeats = 4\nhand_radius_m = 0.0\nhead_turns = 1\n\
+         [[section]]\nbars = [1, 3]\np = \"x\"\n",
+    );
+    for bar in 1..=3 {
+        text += &format!(
+            "[[cue]]\nprop = \"p\"\nbars = [{bar}, {bar}]\nimage = \"dots.png\"\nimage_width_m = 1.0\n"
+        );
+    }
+    let show_path = tmp("dots.toml");
+    std::fs::write(&show_path, text).unwrap();
+    let show = glowscore::show::load(&show_path).unwrap();
+    let pictures: Vec<_> = show
+        .cues
+        .iter()
+        .map(|c| c.painting().unwrap().picture.clone())
+        .collect();
+    assert_eq!(pictures.len(), 3);
+    assert_eq!((pictures[0].width(), pictures[0].height()), (4, 2));
+    for p in &pictures[1..] {
+        assert!(std::sync::Arc::ptr_eq(&pictures[0], p));
+    }
+}

@@ -172,6 +172,27 @@ fn a_chase_moves_bands_of_colour_along_the_strip() {
     }
 }
 
+#[test]
+fn a_chase_of_the_narrowest_bands_shows_its_colours_without_overflowing() {
+    // `chase_width_leds` may be any width above 0: bands of 1e-300 LEDs
+    // number far beyond any integer type, and every LED still shows one of
+    // the cue's colours, the band it is in taken round the cycle.
+    let s = show(
+        100,
+        "tether_m = 0.5\nstrip = { leds = 8, from_m = 0.1, to_m = 0.5 }",
+        "beats = 4\nhand_radius_m = 0.1\nhead_turns = 1",
+        1,
+        "[[cue]]\nprop = \"p\"\nbars = [1, 1]\nat = \"beat\"\nalong = \"chase\"\n\
+         chase_leds_per_beat = 3\nchase_width_leds = 1e-300\ncolours = [\"red\", \"blue\"]",
+    );
+    let l = lights(&s);
+    for k in 0..400 {
+        for led in frame(&s, &l.props[0], k) {
+            assert!(led == RED || led == BLUE, "frame {k}: {led:?}");
+        }
+    }
+}
+
 /// A 4 x 4 picture: the top two rows red, the bottom two blue.
 fn red_over_blue(dir: &Path) -> PathBuf {
     let mut img = image::RgbaImage::new(4, 4);
@@ -235,6 +256,39 @@ fn a_picture_fixed_to_the_hand_turns_with_it() {
             assert_eq!(
                 frame(&s, &l.props[0], k),
                 [RED, RED, RED, BLUE, BLUE, BLUE],
+                "frame {k}, mirror {mirror}"
+            );
+        }
+    }
+}
+
+#[test]
+fn a_picture_fixed_to_the_hand_away_from_the_anchor_turns_about_the_anchor() {
+    // Rigid-body kinematics: a picture fixed to the hand turns with it
+    // about the anchor, the centre the hand turns about, and carries its
+    // place with it. Centred 0.25 m above the anchor, the 2 m picture's red
+    // rows have their centres at 1.0 and 0.5 m, its blue ones at 0.0 and
+    // -0.5 m: at 12 o'clock the head-end LED (0.5 m) samples pure red, the
+    // ones at 0.4 and 0.3 m a blend, the tail half pure blue. As the rod
+    // turns with the hand, each LED keeps its place in the picture, so every
+    // frame shows what the first does, mirrored or not.
+    let dir = tmp("paint-hand-offset");
+    let pic = red_over_blue(&dir);
+    for mirror in [false, true] {
+        let mut s = painting_show(
+            &pic,
+            "image_fixed_to = \"hand\"\nimage_centre_m = [0.0, 0.25]",
+        );
+        s.sections[0].placements[0].as_mut().unwrap().mirror = mirror;
+        let l = lights(&s);
+        let first = frame(&s, &l.props[0], 0);
+        assert_eq!(first[2], RED, "mirror {mirror}");
+        assert_eq!(&first[3..], [BLUE; 3], "mirror {mirror}");
+        assert!(first[0] != RED && first[0] != BLUE, "{first:?}");
+        for k in 1..400 {
+            assert_eq!(
+                frame(&s, &l.props[0], k),
+                first,
                 "frame {k}, mirror {mirror}"
             );
         }

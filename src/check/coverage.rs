@@ -14,14 +14,15 @@
 //! stretches where the prop rests (a resting prop is in no plane and paints
 //! nothing).
 //!
-//! Each LED is placed in the picture's own frame: for `fixed_to = "hand"`
-//! the picture turns `360 * phase` degrees clockwise (negated for a mirrored
-//! placement), exactly as [`crate::cues`] paints it. The figure
+//! Each LED is placed in the picture's own frame with
+//! [`crate::cues::picture_map`], exactly as the frames are painted. The figure
 //! `max_frame_travel_texels` reports how far an LED moves across the picture
 //! between one frame's midpoint and the next.
 //!
-//! The work is `LED-frames x texels tested per LED`; a show that would need
-//! more than [`MAX_TEXEL_TESTS`] is refused before any is done. The frames
+//! The work is `LED-frames x texels tested per LED`, and a pass over the
+//! picture's texels for each painting cue to count them; a show that would
+//! need more than [`MAX_TEXEL_TESTS`] tests in all is refused before any is
+//! done. The frames
 //! run in parallel chunks that mark a shared bit set; the result (a union)
 //! does not depend on the order.
 
@@ -32,8 +33,8 @@ use serde::Serialize;
 
 use super::kin::pieces;
 use super::report::{Warning, WarningKind, When, r9, r9_opt};
-use crate::cues::frame_of;
-use crate::model::{FixedTo, Painting, Prop, Show};
+use crate::cues::{frame_of, picture_map};
+use crate::model::{Painting, Prop, Show, Strip};
 use crate::motion::{PropMotion, Span};
 
 /// A painting whose LEDs pass less than this fraction of its visible
@@ -43,7 +44,8 @@ pub const MIN_COVERED_FRACTION: f64 = 0.9;
 /// The most texel tests the coverage pass may make over a whole show:
 /// about 20 s of work on two cores in release (a one-minute 144-LED staff
 /// painting a 256-texel-wide picture 1.6 m wide needs about 4.4e8, half a
-/// second; 1024 texels wide, 1.8e9 and 2 to 4 s).
+/// second; 1024 texels wide, 1.8e9 and 2 to 4 s). Counting a picture's
+/// texels afterwards is one test a texel (about 5 ns each, on one core).
 pub const MAX_TEXEL_TESTS: f64 = 1e10;
 
 /// Frames in one parallel chunk of a stretch.
@@ -180,7 +182,9 @@ fn plans(show: &Show, motions: &[PropMotion]) -> Vec<Plan> {
         let per_point = tests_per_point(painting);
         let rate = show.frame_rate_hz;
         let mut stretches = Vec::new();
-        let mut tests = 0.0;
+        // One test for every texel of the picture, counted afterwards.
+        let pic = &painting.picture;
+        let mut tests = f64::from(pic.width()) * f64::from(pic.height());
         for piece in pieces(show, motion) {
             let Some(si) = piece.span else {
                 continue;
@@ -308,7 +312,9 @@ struct ChunkFigures {
 }
 
 /// Marks the texels within a texel width of the LEDs at `along` metres from
-/// the grip at the midpoints of frames `i0..i1` of `stretch` (of `span`).
+/// the grip at the midpoints of frames `i0..i1` of `stretch` (of `span`),
+/// and measures the LEDs' travel from each frame to the next, from the frame
+/// before `i0` (the previous chunk's last) on.
 fn run_chunk(
     show: &Show,
     span: &Span,
@@ -318,33 +324,32 @@ fn run_chunk(
     (i0, i1): (usize, usize),
     grid: &Grid<'_>,
 ) -> ChunkFigures {
-    let pic = &painting.picture;
     let rate = f64::from(show.frame_rate_hz);
-    let sense = if span.mirror { -1.0 } else { 1.0 };
     let mut prev: Vec<[f64; 2]> = Vec::with_capacity(along.len());
     let mut now: Vec<[f64; 2]> = Vec::with_capacity(along.len());
     let (mut chord2, mut far2) = (0.0f64, 0.0f64);
-    for i in i0..i1 {
+    let from = i0.saturating_sub(1);
+    for i in from..i1 {
         let k = stretch.first_frame + i as u64;
         let x = show.tempo.beat_at_time((k as f64 + 0.5) / rate);
         let s = x - span.start_beat;
         let hand = span.hand.point(span.phase(s));
         let dir = span.direction(s);
-        let turn = match painting.placement.fixed_to {
-            FixedTo::Stage => 0.0,
-            FixedTo::Hand => 360.0 * span.phase(s) * sense,
-        };
-        let map = painting.placement.to_pixel(pic, turn);
+        let map = picture_map(painting, span, s);
         now.clear();
         for &a in along {
             let p = [hand[0] + a * dir[0], hand[1] + a * dir[1]];
-            far2 = far2.max(p[0] * p[0] + p[1] * p[1]);
+            if i >= i0 {
+                far2 = far2.max(p[0] * p[0] + p[1] * p[1]);
+            }
             now.push(map.apply(span.unmirrored(p)));
         }
-        for q in &now {
-            grid.mark(*q);
+        if i >= i0 {
+            for q in &now {
+                grid.mark(*q);
+            }
         }
-        if i > i0 {
+        if i > from {
             for (p, q) in prev.iter().zip(&now) {
                 let (dx, dy) = ((q[0] - p[0]) * grid.sx, (q[1] - p[1]) * grid.sy);
                 chord2 = chord2.max(dx * dx + dy * dy);
@@ -423,6 +428,11 @@ pub fn scan(
         let mut texels = 0usize;
         let mut covered = 0usize;
         let mut beyond = 0usize;
+        // A texel's distance from the anchor: the picture is turned and
+        // moved as a whole, so it is the distance in the picture's own
+        // frame from the anchor's place there (pixel steps times sx, sy).
+        let anchor = painting.placement.to_pixel(pic, 0.0).apply([0.0, 0.0]);
+        let reach2 = (far_m + sx) * (far_m + sx);
         for j in 0..h {
             for i in 0..w {
                 if pic.texel(i as u32, j as u32)[3] <= 0.0 {
@@ -433,10 +443,9 @@ pub fn scan(
                 if bits[k / 64].load(Ordering::Relaxed) & (1u64 << (k % 64)) != 0 {
                     covered += 1;
                 } else {
-                    let q = painting
-                        .placement
-                        .to_plane(pic, [i as f64 + 0.5, j as f64 + 0.5], 0.0);
-                    if q[0].hypot(q[1]) > far_m + sx {
+                    let dx = (i as f64 + 0.5 - anchor[0]) * sx;
+                    let dy = (j as f64 + 0.5 - anchor[1]) * sy;
+                    if dx * dx + dy * dy > reach2 {
                         beyond += 1;
                     }
                 }
@@ -505,9 +514,8 @@ fn warning(
             let gap = prop
                 .strips
                 .iter()
-                .filter(|s| s.leds > 1)
-                .map(|s| (s.to_m - s.from_m) / f64::from(s.leds - 1))
-                .fold(None, |m: Option<f64>, g| Some(m.map_or(g, |m| m.max(g))));
+                .filter_map(Strip::pitch_m)
+                .reduce(f64::max);
             let spacing = match gap {
                 Some(g) => format!("LEDs up to {:.1} mm apart on a strip", g * 1000.0),
                 None => format!("{} LED(s) at fixed points", prop.leds),
@@ -590,6 +598,61 @@ mod tests {
                 }
             }
         }
+    }
+
+    #[test]
+    fn a_chunk_measures_the_travel_from_the_frame_before_it() {
+        // An LED 0.5 m out on a plain circle, one turn in 4 beats at 60 bpm
+        // and 100 frames/s, moves 2 x 0.5 sin(pi / 400) m between frames'
+        // midpoints (uniform circular motion): so does it between the last
+        // frame of one chunk and the first of the next.
+        let text = "[show]\nframe_rate = 100\nbpm = 60\nbeats_per_bar = 4\n\
+                    [prop.p]\ntether_m = 0.5\nanchor_m = [0.0, 1.5, 0.0]\n\
+                    [pattern.x]\nplane = \"wall\"\nbeats = 4\nhand_radius_m = 0\nhead_turns = 1\n\
+                    [[section]]\nbars = [1, 1]\np = \"x\"\n";
+        let mut show = crate::show::parse("circle.toml", text.to_string()).unwrap();
+        let picture = crate::picture::Picture::from_srgba8(1, 1, &[255; 4]).unwrap();
+        let painting = Painting {
+            file: "white.png".into(),
+            picture: std::sync::Arc::new(picture),
+            placement: crate::picture::PicturePlacement {
+                centre_m: [0.0, 0.0],
+                width_m: 2.0,
+                height_m: 2.0,
+                rotation_deg: 0.0,
+                fixed_to: crate::picture::FixedTo::Stage,
+            },
+        };
+        show.cues.push(crate::model::Cue {
+            prop: 0,
+            first_bar: 1,
+            last_bar: 1,
+            look: crate::model::Look::Image(painting.clone()),
+        });
+        let motions = crate::motion::simulate(&show);
+        let plan = &plans(&show, &motions)[0];
+        let stretch = &plan.stretches[0];
+        let span = &motions[0].spans[stretch.span];
+        let bits = [AtomicU64::new(0)];
+        let grid = Grid {
+            w: 1,
+            h: 1,
+            sx: 2.0,
+            sy: 2.0,
+            reach: 2.0,
+            reach2: 4.0,
+            bits: &bits,
+        };
+        let run = |i0, i1| run_chunk(&show, span, &painting, &[0.5], stretch, (i0, i1), &grid);
+        let want = 2.0 * 0.5 * crate::num::sin(std::f64::consts::PI / 400.0);
+        for (i0, i1) in [(0, 2), (1, 2), (200, 201)] {
+            let chord = run(i0, i1).chord_m;
+            assert!(
+                (chord - want).abs() < 1e-12,
+                "{i0}..{i1}: {chord} vs {want}"
+            );
+        }
+        assert_eq!(run(0, 1).chord_m, 0.0);
     }
 
     #[test]

@@ -50,7 +50,7 @@ fn side(
         None => {
             let ends = ends_m
                 .iter()
-                .map(|&along| p.anchor_m - Vector3::new(0.0, along, 0.0))
+                .map(|&along| motion.rest_point(along))
                 .collect();
             (p.anchor_m, ends, "rest".to_string())
         }

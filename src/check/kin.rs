@@ -47,13 +47,9 @@ fn to_stage(span: &Span, j: [[f64; 2]; 4], rate: f64) -> [Vector3<f64>; 4] {
 }
 
 impl Kin {
-    /// The state `s` beats into `span`, at a tempo of `beats_per_s`.
-    pub fn moving(span: &Span, beats_per_s: f64, s: f64) -> Kin {
-        Kin::moving_end(span, &span.head, beats_per_s, s)
-    }
-
-    /// The state `s` beats into `span` with `end` (one of [`end_curves`])
-    /// as the end scanned.
+    /// The state `s` beats into `span`, at a tempo of `beats_per_s`, with
+    /// `end` (one of [`end_curves`]: `span.head` for the head end) as the
+    /// end scanned.
     pub fn moving_end(span: &Span, end: &Curve, beats_per_s: f64, s: f64) -> Kin {
         let u = span.phase(s);
         let rate = span.phase_per_beat() * beats_per_s;
@@ -63,14 +59,10 @@ impl Kin {
         }
     }
 
-    /// A prop at rest: hand still at `anchor`, head hanging `tether_m` below.
-    pub fn resting(anchor: Vector3<f64>, tether_m: f64) -> Kin {
-        Kin::resting_end(anchor, tether_m)
-    }
-
-    /// A prop at rest, scanning the end `along_m` metres from the grip along
-    /// the prop's direction, which points straight down: the head end hangs
-    /// below the anchor, a staff's tail end (`along_m < 0`) stands above it.
+    /// A prop at rest (hand still at `anchor`), scanning the end `along_m`
+    /// metres from the grip along the prop's direction, which points straight
+    /// down: the head end hangs below the anchor, a staff's tail end
+    /// (`along_m < 0`) stands above it.
     pub fn resting_end(anchor: Vector3<f64>, along_m: f64) -> Kin {
         let z = Vector3::zeros();
         Kin {

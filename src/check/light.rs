@@ -110,8 +110,9 @@ impl PropLightFigures {
     }
 }
 
-/// Everything the light checks found.
-#[derive(Clone, Debug, PartialEq)]
+/// Everything the light checks found (nothing, by default: a show without
+/// frames).
+#[derive(Clone, Debug, Default, PartialEq)]
 pub struct LightScan {
     /// Per prop, in prop order.
     pub props: Vec<PropLightFigures>,
@@ -334,11 +335,7 @@ impl LightTally {
 /// Runs the flash and current checks over every frame of `lights`.
 pub fn scan(show: &Show, lights: &Lights) -> LightScan {
     let Some(mut tally) = LightTally::new(show) else {
-        return LightScan {
-            props: Vec::new(),
-            stage_flash: None,
-            warnings: Vec::new(),
-        };
+        return LightScan::default();
     };
     let result: Result<(), std::convert::Infallible> =
         cues::for_each_block(show, lights, show.frame_count(), |_, n, blocks| {

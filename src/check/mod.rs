@@ -250,14 +250,7 @@ pub fn frame_figures(show: &Show, lights: &Lights) -> FrameFigures {
         });
     let Ok(()) = result;
     FrameFigures {
-        light: tally.map_or_else(
-            || light::LightScan {
-                props: Vec::new(),
-                stage_flash: None,
-                warnings: Vec::new(),
-            },
-            |t| t.finish(show),
-        ),
+        light: tally.map_or_else(light::LightScan::default, |t| t.finish(show)),
         compact_table_bytes: counters
             .into_iter()
             .map(|c| c.and_then(|w| w.finish().ok()).map(|s| s.bytes_written))

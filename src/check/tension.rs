@@ -46,7 +46,7 @@ mod tests {
     #[test]
     fn hanging_head_pulls_its_weight() {
         // A head at rest under the hand: T = m g (Newton's second law).
-        let k = Kin::resting(Vector3::new(0.0, 1.5, 0.0), 0.6);
+        let k = Kin::resting_end(Vector3::new(0.0, 1.5, 0.0), 0.6);
         let (t, dt) = tension_n(0.2, &k);
         assert!((t - 0.2 * G0).abs() < 1e-15 && dt == 0.0);
     }

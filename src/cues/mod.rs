@@ -14,8 +14,9 @@ use rayon::prelude::*;
 use crate::colour;
 use crate::events::Event;
 use crate::model::{Along, EventKind, FixedTo, LedSpot, Look, Painting, Show};
-use crate::motion::PropMotion;
+use crate::motion::{PropMotion, Span};
 use crate::num;
+use crate::picture::ToPixel;
 
 /// The frame on which something happening at `t` seconds first shows, at
 /// `rate` frames per second: `ceil(t * rate - 1/2)`, the frame whose start
@@ -86,24 +87,29 @@ impl Palette {
         }
     }
 
-    /// The chase band an LED at place `index` of its strip is in at `beat`.
-    fn band(&self, index: u32, beat: f64) -> i64 {
+    /// The chase band an LED at place `index` of its strip is in at `beat`,
+    /// taken round the cycle of colours (0 to the number of colours less 1).
+    /// The band number is a whole float, so that bands of any width count
+    /// without overflow.
+    fn band(&self, index: u32, beat: f64) -> usize {
         match self.along {
             Along::Chase {
                 leds_per_beat,
                 width_leds,
             } => {
                 let x = f64::from(index) - leds_per_beat * (beat - self.start_beat);
-                (x / width_leds).floor() as i64
+                let n = self.colours.len() as f64;
+                // In 0..n (NaN, for an infinite band, casts to 0).
+                (x / width_leds).floor().rem_euclid(n) as usize
             }
             _ => 0,
         }
     }
 
-    /// Colour index `c` moved on by `band` bands, cycling.
-    fn shift(&self, c: usize, band: i64) -> usize {
-        let n = self.colours.len() as i64;
-        (c as i64 + band).rem_euclid(n) as usize
+    /// Colour index `c` moved on by `band` bands (from [`Palette::band`]),
+    /// cycling.
+    fn shift(&self, c: usize, band: usize) -> usize {
+        (c + band) % self.colours.len()
     }
 }
 
@@ -220,19 +226,6 @@ pub struct PropLights {
 }
 
 impl PropLights {
-    /// Where each LED sits, in table order.
-    pub fn spots(&self) -> &[LedSpot] {
-        &self.spots
-    }
-
-    /// True when every LED shows the same colour on every frame (no cue
-    /// spreads its colours or paints).
-    pub fn is_uniform(&self) -> bool {
-        self.tracks
-            .iter()
-            .all(|t| matches!(&t.look, Drawn::Steps(p) if p.along == Along::Solid))
-    }
-
     /// The track that decides frame `k`, if any.
     fn track_at(&self, k: u64) -> Option<&CueTrack> {
         self.tracks
@@ -303,15 +296,8 @@ impl PropLights {
         let s = beat - span.start_beat;
         let hand = span.hand.point(span.phase(s));
         let dir = span.direction(s);
-        let turn = match painting.placement.fixed_to {
-            FixedTo::Stage => 0.0,
-            FixedTo::Hand => {
-                let sense = if span.mirror { -1.0 } else { 1.0 };
-                360.0 * span.phase(s) * sense
-            }
-        };
         let pic = &painting.picture;
-        let map = painting.placement.to_pixel(pic, turn);
+        let map = picture_map(painting, span, s);
         for (o, spot) in out.iter_mut().zip(&self.spots) {
             let a = spot.along_m;
             let p = [hand[0] + a * dir[0], hand[1] + a * dir[1]];
@@ -415,6 +401,24 @@ pub fn place(show: &Show, motions: &[PropMotion], events: &[Event]) -> Lights {
         props[cue.prop].tracks.push(track);
     }
     Lights { props, landings }
+}
+
+/// The map from plane points (`[right, up]` on the plane's unmirrored
+/// clock, metres from the anchor) to pixels of `painting`'s picture, `s`
+/// beats into `span`: for a picture fixed to the hand, turned `360 x phase`
+/// degrees clockwise about the anchor, the centre of the hand's turn (the
+/// other way for a mirrored placement, whose hand turns the other way on
+/// the unmirrored clock). The frames and the coverage check both place the
+/// LEDs with it.
+pub fn picture_map(painting: &Painting, span: &Span, s: f64) -> ToPixel {
+    let map = painting.placement.to_pixel(&painting.picture, 0.0);
+    match painting.placement.fixed_to {
+        FixedTo::Stage => map,
+        FixedTo::Hand => {
+            let sense = if span.mirror { -1.0 } else { 1.0 };
+            map.turned_about_anchor(360.0 * span.phase(s) * sense)
+        }
+    }
 }
 
 /// Frames of every prop computed at a time by [`for_each_block`].

@@ -88,6 +88,14 @@ pub struct Strip {
     pub to_m: f64,
 }
 
+impl Strip {
+    /// The distance between neighbouring LEDs, metres (`None` for a strip of
+    /// one LED).
+    pub fn pitch_m(&self) -> Option<f64> {
+        (self.leds > 1).then(|| (self.to_m - self.from_m) / f64::from(self.leds - 1))
+    }
+}
+
 /// Where one LED sits on its prop, and its place in its strip.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct LedSpot {

@@ -102,12 +102,6 @@ impl Span {
         [cs, sn]
     }
 
-    /// Turns of the prop's direction (grip to head end) per unit of phase:
-    /// the pattern's `head_turns`.
-    pub fn rod_turns(&self) -> f64 {
-        self.tether.turns
-    }
-
     /// The path of the point `along_m` metres from the grip along the prop's
     /// direction (negative: toward a staff's tail end), as a sum of rotating
     /// terms in phase: the hand's terms plus a term of radius `|along_m|`.
@@ -237,6 +231,13 @@ impl PropMotion {
         (beat < self.spans[i].end_beat).then_some(i)
     }
 
+    /// Where the point `along_m` metres from the grip along the prop (a
+    /// staff's tail half negative) is while the prop rests: the hand at the
+    /// anchor and the prop pointing straight down from it.
+    pub fn rest_point(&self, along_m: f64) -> Vector3<f64> {
+        self.anchor - Vector3::new(0.0, along_m, 0.0)
+    }
+
     /// The state at `t` seconds from frame 0.
     pub fn state_at(&self, tempo: &TempoMap, t: f64) -> State {
         let beat = tempo.beat_at_time(t);
@@ -268,7 +269,7 @@ impl PropMotion {
                 hand_m: self.anchor,
                 hand_vel: Vector3::zeros(),
                 hand_acc: Vector3::zeros(),
-                head_m: self.anchor - Vector3::new(0.0, self.tether_m, 0.0),
+                head_m: self.rest_point(self.tether_m),
                 head_vel: Vector3::zeros(),
                 head_acc: Vector3::zeros(),
                 dir: Vector3::new(0.0, -1.0, 0.0),

@@ -40,6 +40,11 @@ impl Picture {
     /// Reads a PNG or JPEG file; the error says what is wrong, in words.
     pub fn load(path: &Path) -> Result<Picture, String> {
         let meta = std::fs::metadata(path).map_err(|e| format!("cannot read the picture: {e}"))?;
+        if !meta.is_file() {
+            // A folder has nothing to read, and a pipe or device would keep
+            // the reader waiting.
+            return Err("the picture's path is not a file".into());
+        }
         if meta.len() > MAX_FILE_BYTES {
             return Err(format!(
                 "the picture file is {} bytes; files larger than {MAX_FILE_BYTES} bytes are refused",
@@ -58,6 +63,9 @@ impl Picture {
             .decode()
             .map_err(|e| format!("cannot decode the picture (PNG or JPEG): {e}"))?;
         let (w, h) = (img.width(), img.height());
+        if w == 0 || h == 0 {
+            return Err("the picture has no texels".into());
+        }
         if u64::from(w) * u64::from(h) > MAX_PIXELS {
             return Err(format!(
                 "the picture is {w}x{h} texels, more than the {MAX_PIXELS} glowscore paints; scale it down"
@@ -89,9 +97,6 @@ impl Picture {
             Picture::from_srgba8(w, h, img.to_rgba8().as_raw())
                 .ok_or_else(|| "the picture's texels do not match its size".to_string())?
         };
-        if w == 0 || h == 0 {
-            return Err("the picture has no texels".into());
-        }
         Ok(pic)
     }
 
@@ -183,9 +188,9 @@ impl Picture {
 pub enum FixedTo {
     /// It stays put (upright in the photo), whatever the pattern.
     Stage,
-    /// It turns about the anchor with the hand: one clockwise turn on the
-    /// plane's clock per hand revolution (the other way where the pattern
-    /// runs reversed or is placed mirrored).
+    /// It turns about the anchor with the hand, its place turning with it:
+    /// one clockwise turn on the plane's clock per hand revolution (the
+    /// other way where the pattern runs reversed or is placed mirrored).
     Hand,
 }
 
@@ -230,11 +235,32 @@ impl ToPixel {
             m[3] * q[0] + m[4] * q[1] + m[5],
         ]
     }
+
+    /// The map of the same picture turned `turn_deg` clockwise about the
+    /// anchor (the origin of plane points), its place turning with it.
+    pub fn turned_about_anchor(&self, turn_deg: f64) -> ToPixel {
+        // The turned picture shows at q what the unturned one shows at q
+        // turned back (counter-clockwise): (r cos - u sin, r sin + u cos).
+        let (s, c) = num::sin_cos(num::rad(turn_deg));
+        let m = &self.m;
+        ToPixel {
+            m: [
+                m[0] * c + m[1] * s,
+                m[1] * c - m[0] * s,
+                m[2],
+                m[3] * c + m[4] * s,
+                m[4] * c - m[3] * s,
+                m[5],
+            ],
+        }
+    }
 }
 
 impl PicturePlacement {
     /// The map from plane points to pixels of `pic`, with the picture turned
-    /// a further `turn_deg` clockwise (the hand's turn, for [`FixedTo::Hand`]).
+    /// a further `turn_deg` clockwise about its centre. (The hand's turn of a
+    /// picture [`FixedTo::Hand`] is about the anchor:
+    /// [`ToPixel::turned_about_anchor`].)
     pub fn to_pixel(&self, pic: &Picture, turn_deg: f64) -> ToPixel {
         // A picture point (x right, y up from its centre, metres) turned
         // clockwise by theta sits at centre + (x cos + y sin, -x sin + y cos);
@@ -343,5 +369,34 @@ mod tests {
                 assert!((back[0] - q[0]).abs() < 1e-12 && (back[1] - q[1]).abs() < 1e-12);
             }
         }
+    }
+
+    #[test]
+    fn a_turn_about_the_anchor_carries_the_picture_round_it() {
+        // Plane geometry: turned theta clockwise about the anchor, the
+        // picture shows at q turned (r cos + u sin, -r sin + u cos) what it
+        // showed at q; its centre, 0.22 m from the anchor, stays 0.22 m away.
+        let p = checker();
+        let pl = PicturePlacement {
+            centre_m: [0.1, 0.2],
+            width_m: 0.4,
+            height_m: 0.2,
+            rotation_deg: 30.0,
+            fixed_to: FixedTo::Hand,
+        };
+        let still = pl.to_pixel(&p, 0.0);
+        for turn in [90.0, 33.0, -170.0] {
+            let m = still.turned_about_anchor(turn);
+            let (s, c) = num::sin_cos(num::rad(turn));
+            for q in [[0.1, 0.2], [0.25, -0.3], [-1.0, 2.0]] {
+                let turned = [q[0] * c + q[1] * s, -q[0] * s + q[1] * c];
+                let (a, b) = (m.apply(turned), still.apply(q));
+                assert!((a[0] - b[0]).abs() < 1e-12 && (a[1] - b[1]).abs() < 1e-12);
+            }
+        }
+        // A quarter turn takes the centre from (0.1, 0.2) to (0.2, -0.1).
+        let m = still.turned_about_anchor(90.0);
+        let centre = m.apply([0.2, -0.1]);
+        assert!((centre[0] - 1.0).abs() < 1e-12 && (centre[1] - 1.0).abs() < 1e-12);
     }
 }

@@ -42,7 +42,7 @@ pub use splat::Film;
 
 use crate::colour;
 use crate::cues::Lights;
-use crate::model::{Prop, Show};
+use crate::model::{Prop, Show, Strip};
 use crate::motion::PropMotion;
 
 /// Largest picture side, pixels.
@@ -223,8 +223,8 @@ pub fn glow_sigma_m(prop: &Prop) -> f64 {
     let pitch_m = prop
         .strips
         .iter()
-        .filter(|s| s.leds > 1 && s.to_m > s.from_m)
-        .map(|s| (s.to_m - s.from_m) / f64::from(s.leds - 1))
+        .filter_map(Strip::pitch_m)
+        .filter(|&p| p > 0.0)
         .fold(f64::INFINITY, f64::min);
     if pitch_m.is_finite() {
         let (lo, hi) = STRIP_GLOW_SIGMA_MM;

@@ -150,8 +150,6 @@ pub fn check_frames(show: &Show, t0: f64, t1: f64) -> Result<(), PreviewError> {
 struct Segment {
     prop: usize,
     along_m: f64,
-    /// True for the spot at the head end (drawn on the span's head curve).
-    head: bool,
     a: f64,
     b: f64,
     steps: u64,
@@ -163,8 +161,6 @@ struct Segment {
 struct SpotInfo {
     along_m: f64,
     leds: Vec<usize>,
-    /// True for the spot at the head end (drawn on the span's head curve).
-    head: bool,
 }
 
 /// The span whose speed bound is cached, and the bound, m/s.
@@ -220,7 +216,6 @@ fn walk_prop(
         .into_iter()
         .map(|s| SpotWalk {
             info: SpotInfo {
-                head: s.along_m == prop.tether_m,
                 along_m: s.along_m,
                 leds: s.leds,
             },
@@ -416,11 +411,7 @@ impl Cutter<'_> {
                 Some((j, v)) if j == i => v,
                 _ => {
                     let span = &self.motion.spans[i];
-                    let v = if spot.head {
-                        speed_bound(&span.head, span, tempo)
-                    } else {
-                        speed_bound(&span.point_curve(spot.along_m), span, tempo)
-                    };
+                    let v = speed_bound(&span.point_curve(spot.along_m), span, tempo);
                     *speed = Some((i, v));
                     v
                 }
@@ -435,7 +426,6 @@ impl Cutter<'_> {
         sink(&Segment {
             prop: self.motion.prop,
             along_m: spot.along_m,
-            head: spot.head,
             a,
             b,
             // Saturates for absurd counts, which the budget then refuses.
@@ -446,24 +436,18 @@ impl Cutter<'_> {
 }
 
 /// Where the LEDs `along_m` from the grip of `motion`'s prop are at `t`
-/// seconds, stage coordinates; `head` is true for the head end, drawn on
-/// the span's head curve.
-fn position(show: &Show, motion: &PropMotion, along_m: f64, head: bool, t: f64) -> Vector3<f64> {
+/// seconds, stage coordinates.
+fn position(show: &Show, motion: &PropMotion, along_m: f64, t: f64) -> Vector3<f64> {
     let beat = show.tempo.beat_at_time(t);
     match motion.span_at_beat(beat) {
         Some(i) => {
             let span = &motion.spans[i];
-            let u = span.phase(beat - span.start_beat);
-            if head {
-                span.to_stage(span.head.point(u))
-            } else {
-                let h = span.hand.point(u);
-                let d = span.direction(beat - span.start_beat);
-                span.to_stage([h[0] + along_m * d[0], h[1] + along_m * d[1]])
-            }
+            let s = beat - span.start_beat;
+            let h = span.hand.point(span.phase(s));
+            let d = span.direction(s);
+            span.to_stage([h[0] + along_m * d[0], h[1] + along_m * d[1]])
         }
-        // Resting: hand at the anchor, the prop hanging straight down.
-        None => show.props[motion.prop].anchor_m - Vector3::new(0.0, along_m, 0.0),
+        None => motion.rest_point(along_m),
     }
 }
 
@@ -495,7 +479,6 @@ pub fn count(
 struct Step {
     prop: usize,
     along_m: f64,
-    head: bool,
     t: f64,
     energy: [f64; 3],
 }
@@ -528,7 +511,7 @@ pub fn for_each_chunk(
             .map(|s| Piece {
                 prop: s.prop,
                 along_m: s.along_m,
-                pos: position(show, &motions[s.prop], s.along_m, s.head, s.t),
+                pos: position(show, &motions[s.prop], s.along_m, s.t),
                 energy: s.energy,
             })
             .collect_into_vec(&mut pieces);
@@ -546,7 +529,6 @@ pub fn for_each_chunk(
             steps.push(Step {
                 prop: s.prop,
                 along_m: s.along_m,
-                head: s.head,
                 t: s.a + (i as f64 + 0.5) * dt,
                 energy,
             });

@@ -15,8 +15,8 @@ use toml::de::{DeTable, DeValue};
 
 use crate::diag::{Diagnostic, Diagnostics, Source, did_you_mean};
 use crate::model::{
-    Along, Cue, End, EventKind, FixedTo, LedDriver, Look, Painting, Pattern, PicturePlacement,
-    Placement, Plane, Prop, PropKind, Section, Show, Steps, Strip, Term,
+    Along, Cue, End, EventKind, FixedTo, LedDriver, Look, Painting, Pattern, Picture,
+    PicturePlacement, Placement, Plane, Prop, PropKind, Section, Show, Steps, Strip, Term,
 };
 use crate::motion::TempoMap;
 use crate::output::WireOrder;
@@ -581,14 +581,13 @@ fn leds_and_strips(
             ),
         };
     };
-    if let Some(l) = t.get("leds") {
-        ctx.error_help(
-            &t.key_path("leds"),
-            l.span(),
-            "give either `leds` or `strip`, not both",
-            "with a strip, the LEDs are counted by its `leds`",
-        );
-    }
+    refuse_keys(
+        ctx,
+        t,
+        &["leds"],
+        |_| "give either `leds` or `strip`, not both".into(),
+        "with a strip, the LEDs are counted by its `leds`",
+    );
     let path = t.key_path("strip");
     let tables: Vec<(String, &DeTable<'_>, std::ops::Range<usize>)> = match v.get_ref() {
         DeValue::Table(tb) => vec![(path.clone(), tb, v.span())],
@@ -794,16 +793,13 @@ fn patterns(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Pattern> {
                     }]
                 }),
             (None, Some(_)) => {
-                if t.get("hand_start_deg").is_some() {
-                    ctx.error_help(
-                        &t.key_path("hand_start_deg"),
-                        t.get("hand_start_deg")
-                            .map(|v| v.span())
-                            .unwrap_or(span.clone()),
-                        "`hand_start_deg` goes with `hand_radius_m`",
-                        "with `hand = [...]`, give each term its own `start_deg`",
-                    );
-                }
+                refuse_keys(
+                    ctx,
+                    t,
+                    &["hand_start_deg"],
+                    |key| format!("`{key}` goes with `hand_radius_m`"),
+                    "with `hand = [...]`, give each term its own `start_deg`",
+                );
                 hand_terms(ctx, t)
             }
             (None, None) => {
@@ -1021,6 +1017,7 @@ fn placement(
 fn cues(ctx: &mut Ctx, root: Tbl<'_, '_>, props: &[Prop], names: &Declared) -> Vec<Cue> {
     let prop_names: Vec<&str> = names.props.iter().map(String::as_str).collect();
     let mut out = Vec::new();
+    let mut pictures = Pictures::new();
     for (path, table, span) in table_array(ctx, root, "cue") {
         let t = Tbl {
             path: &path,
@@ -1037,7 +1034,7 @@ fn cues(ctx: &mut Ctx, root: Tbl<'_, '_>, props: &[Prop], names: &Declared) -> V
         });
         let bars = ctx.bar_range(t, "bars", MAX_BAR);
         let look = if t.get("image").is_some() {
-            painting(ctx, t).map(Look::Image)
+            painting(ctx, t, &mut pictures).map(Look::Image)
         } else {
             steps(ctx, t).map(Look::Steps)
         };
@@ -1053,18 +1050,31 @@ fn cues(ctx: &mut Ctx, root: Tbl<'_, '_>, props: &[Prop], names: &Declared) -> V
     out
 }
 
-/// The stepped colours of a cue without `image`.
-fn steps(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Steps> {
-    for key in IMAGE_KEYS {
+/// An error at each of `keys` that `t` holds, as they do not go with what
+/// else it holds: `message(key)`, with `help`.
+fn refuse_keys(
+    ctx: &mut Ctx,
+    t: Tbl<'_, '_>,
+    keys: &[&str],
+    message: impl Fn(&str) -> String,
+    help: &str,
+) {
+    for key in keys {
         if let Some(v) = t.get(key) {
-            ctx.error_help(
-                &t.key_path(key),
-                v.span(),
-                format!("`{key}` goes with `image`"),
-                "add `image = \"picture.png\"`, or leave the key out",
-            );
+            ctx.error_help(&t.key_path(key), v.span(), message(key), help);
         }
     }
+}
+
+/// The stepped colours of a cue without `image`.
+fn steps(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Steps> {
+    refuse_keys(
+        ctx,
+        t,
+        IMAGE_KEYS,
+        |key| format!("`{key}` goes with `image`"),
+        "add `image = \"picture.png\"`, or leave the key out",
+    );
     let at = ctx.string(t, "at", true).and_then(|(name, sp)| {
         let k = EventKind::from_name(&name);
         if k.is_none() {
@@ -1121,16 +1131,13 @@ fn along(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Along> {
         }
     };
     if kind.as_deref() != Some("chase") {
-        for key in ["chase_leds_per_beat", "chase_width_leds"] {
-            if let Some(v) = t.get(key) {
-                ctx.error_help(
-                    &t.key_path(key),
-                    v.span(),
-                    format!("`{key}` goes with `along = \"chase\"`"),
-                    "add `along = \"chase\"`, or leave the key out",
-                );
-            }
-        }
+        refuse_keys(
+            ctx,
+            t,
+            &["chase_leds_per_beat", "chase_width_leds"],
+            |key| format!("`{key}` goes with `along = \"chase\"`"),
+            "add `along = \"chase\"`, or leave the key out",
+        );
     }
     match kind?.as_str() {
         "solid" => Some(Along::Solid),
@@ -1151,18 +1158,24 @@ fn along(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Along> {
     }
 }
 
-/// The picture of a cue with `image`, read from a file beside the show.
-fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Painting> {
-    for key in STEP_KEYS {
-        if let Some(v) = t.get(key) {
-            ctx.error_help(
-                &t.key_path(key),
-                v.span(),
-                format!("`{key}` does not go with `image`: a painting takes its colours from the picture"),
-                "paint the picture in one cue and step colours in another",
-            );
-        }
-    }
+/// The pictures the cues have read, by path: each file is read once, and
+/// the cues that name it share it.
+type Pictures = std::collections::HashMap<std::path::PathBuf, Result<Arc<Picture>, String>>;
+
+/// The picture of a cue with `image`, read from a file beside the show (or
+/// found in `pictures`, when an earlier cue read it).
+fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>, pictures: &mut Pictures) -> Option<Painting> {
+    refuse_keys(
+        ctx,
+        t,
+        STEP_KEYS,
+        |key| {
+            format!(
+                "`{key}` does not go with `image`: a painting takes its colours from the picture"
+            )
+        },
+        "paint the picture in one cue and step colours in another",
+    );
     let (file, file_span) = ctx.string(t, "image", true)?;
     let width = ctx.number_in(t, "image_width_m", true, 0.0, true, 100.0);
     let height = ctx.number_in(t, "image_height_m", false, 0.0, true, 100.0);
@@ -1214,8 +1227,12 @@ fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Painting> {
         .parent()
         .map(Path::to_path_buf)
         .unwrap_or_default();
-    let picture = match crate::picture::Picture::load(&base.join(&file)) {
-        Ok(p) => Some(p),
+    let path = base.join(&file);
+    let loaded = pictures
+        .entry(path)
+        .or_insert_with_key(|path| Picture::load(path).map(Arc::new));
+    let picture = match loaded {
+        Ok(p) => Some(Arc::clone(p)),
         Err(e) => {
             ctx.error_help(
                 &t.key_path("image"),
@@ -1232,7 +1249,7 @@ fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Painting> {
         height.unwrap_or(width_m * f64::from(picture.height()) / f64::from(picture.width()));
     Some(Painting {
         file,
-        picture: Arc::new(picture),
+        picture,
         placement: PicturePlacement {
             centre_m: centre?,
             width_m,
