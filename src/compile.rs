@@ -130,7 +130,9 @@ pub enum CompileError {
     #[error("{0}")]
     Check(String),
     /// A preview could not be rendered.
-    #[error("{0}")]
+    #[error(
+        "{0}; the tables were not written either: compile with --no-previews, and take pictures of parts of the show with `glowscore preview --bars A-B`"
+    )]
     Preview(#[from] preview::PreviewError),
 }
 

@@ -80,3 +80,27 @@ fn diagnostics_render_file_line_column_and_a_caret() {
     );
     assert!(text.contains("3 | bpm = -1\n  |       ^^"), "{text}");
 }
+
+#[test]
+fn a_show_with_too_many_props_is_refused_by_the_reader() {
+    // Every prop keeps four table files open while it compiles: a show of
+    // more than `MAX_PROPS` is refused before anything is simulated.
+    let mut text = String::from("[show]\nframe_rate = 100\nbpm = 60\n");
+    for i in 0..=glowscore::show::MAX_PROPS {
+        text.push_str(&format!(
+            "[prop.p{i}]\ntether_m = 0.5\nanchor_m = [{i}, 1.5, 0]\n"
+        ));
+    }
+    let err = glowscore::show::parse("many.toml", text)
+        .unwrap_err()
+        .to_string();
+    assert!(err.contains("257 props, more than the 256"), "{err}");
+}
+
+#[test]
+fn a_show_path_that_is_not_a_file_is_refused() {
+    // A folder (and a named pipe alike) is refused before reading.
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR"));
+    let err = glowscore::show::load(dir).unwrap_err().to_string();
+    assert!(err.contains("is not a file"), "{err}");
+}

@@ -134,6 +134,8 @@ const ALONGS: &[&str] = &["solid", "gradient", "chase"];
 const FIXED_TO: &[&str] = &["stage", "hand"];
 /// Most LEDs on one prop.
 pub const MAX_LEDS: u32 = 4096;
+/// Most props in one show (each has four table files open while it compiles).
+pub const MAX_PROPS: usize = 256;
 /// Most strips on one prop.
 pub const MAX_STRIPS: usize = 16;
 /// Band width of a chase when `chase_width_leds` is left out, LEDs.
@@ -145,6 +147,9 @@ pub fn load(path: &Path) -> Result<Show, Diagnostics> {
     let name = path.display().to_string();
     let meta = std::fs::metadata(path)
         .map_err(|e| Diagnostic::error(format!("cannot read `{name}`: {e}")))?;
+    if !meta.is_file() {
+        return Err(Diagnostic::error(format!("`{name}` is not a file")).into());
+    }
     if meta.len() > MAX_FILE_BYTES {
         return Err(Diagnostic::error(format!(
             "`{name}` is {} bytes; show files larger than {MAX_FILE_BYTES} bytes are refused",
@@ -396,7 +401,21 @@ fn tempo_changes(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<(u32, f64)> {
 
 fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
     let mut out = Vec::new();
-    for (name, path, table, span) in named_tables(ctx, root, "prop") {
+    let tables = named_tables(ctx, root, "prop");
+    if tables.len() > MAX_PROPS {
+        let span = tables[MAX_PROPS].3.clone();
+        ctx.error_help(
+            "prop",
+            span,
+            format!(
+                "the show has {} props, more than the {MAX_PROPS} glowscore compiles",
+                tables.len()
+            ),
+            "split the show into several files",
+        );
+        return out;
+    }
+    for (name, path, table, span) in tables {
         let t = Tbl {
             path: &path,
             table,
