@@ -8,34 +8,10 @@ mod common;
 
 use std::path::{Path, PathBuf};
 
-use glowscore::cues::{Lights, place};
-use glowscore::events::find_events;
-use glowscore::model::Show;
-use glowscore::motion::{PropMotion, simulate};
 use glowscore::preview::{self, Film, Photo, PreviewError, PreviewOptions, trail};
 use image::{Rgba, RgbaImage};
 
-struct Setup {
-    show: Show,
-    motions: Vec<PropMotion>,
-    lights: Lights,
-}
-
-fn setup(text: &str) -> Setup {
-    let show = common::show(text);
-    let motions = simulate(&show);
-    let events = find_events(&show, &motions);
-    let lights = place(&show, &motions, &events);
-    Setup {
-        show,
-        motions,
-        lights,
-    }
-}
-
-fn shoot(s: &Setup, opts: &PreviewOptions) -> Photo {
-    preview::shoot(&s.show, &s.motions, &s.lights, opts, &|_, _| {}).expect("renders")
-}
+use common::{emitted, setup, shoot};
 
 /// An orthographic front view of `viewport` at `px_per_m`, shutter open
 /// through the whole show.
@@ -77,6 +53,27 @@ fn disc_picture(name: &str, side_m: f64, discs: &[Disc]) -> PathBuf {
     let path = dir.join(format!("{name}.png"));
     img.save(&path).expect("writes the picture");
     path
+}
+
+/// A 0.32 m square picture of a red disc above a blue one, each of 6 cm
+/// radius, centred 8 cm above and below the middle.
+fn red_over_blue(name: &str) -> PathBuf {
+    disc_picture(
+        name,
+        0.32,
+        &[
+            Disc {
+                centre: [0.0, 0.08],
+                radius_m: 0.06,
+                rgb: [255, 0, 0],
+            },
+            Disc {
+                centre: [0.0, -0.08],
+                radius_m: 0.06,
+                rgb: [0, 0, 255],
+            },
+        ],
+    )
 }
 
 /// The anchor of every prop in these shows, stage metres (x, y).
@@ -375,22 +372,7 @@ fn clock_deg(a: [f64; 2], b: [f64; 2]) -> f64 {
 /// degrees.
 #[test]
 fn antispin_flower_paints_a_picture_upright_and_turned_as_placed() {
-    let pic = disc_picture(
-        "red-over-blue",
-        0.32,
-        &[
-            Disc {
-                centre: [0.0, 0.08],
-                radius_m: 0.06,
-                rgb: [255, 0, 0],
-            },
-            Disc {
-                centre: [0.0, -0.08],
-                radius_m: 0.06,
-                rgb: [0, 0, 255],
-            },
-        ],
-    );
+    let pic = red_over_blue("red-over-blue");
     let centre = [0.05, 0.3];
     let placed = [ANCHOR[0] + centre[0], ANCHOR[1] + centre[1]];
     for turn in [0.0, 30.0] {
@@ -481,29 +463,6 @@ fn strip_leds_trace_circles_of_the_summed_radius() {
     }
 }
 
-/// Sum over LEDs and frames of LED power x the time each frame is inside
-/// the shutter window, LED-seconds per primary.
-fn emitted(s: &Setup, window: (f64, f64)) -> [f64; 3] {
-    let rate = f64::from(s.show.frame_rate_hz);
-    let mut sum = [0.0; 3];
-    for pl in &s.lights.props {
-        let mut frame = vec![[0u8; 3]; pl.leds as usize];
-        for k in 0..s.show.frame_count() {
-            let a = (k as f64 / rate).max(window.0);
-            let b = ((k + 1) as f64 / rate).min(window.1);
-            if b > a {
-                pl.fill_frame(&s.show, k, &mut frame);
-                for led in &frame {
-                    for c in 0..3 {
-                        sum[c] += f64::from(led[c]) / 255.0 * (b - a);
-                    }
-                }
-            }
-        }
-    }
-    sum
-}
-
 /// Conservation of energy (a sensor adds up the energy that falls on it;
 /// radiant exposure is irradiance x time): with every glow inside the
 /// picture, the film holds the light of every LED, summed over LEDs and
@@ -512,22 +471,7 @@ fn emitted(s: &Setup, window: (f64, f64)) -> [f64; 3] {
 /// differently coloured LEDs sharing one head).
 #[test]
 fn film_holds_the_light_of_every_led() {
-    let pic = disc_picture(
-        "red-over-blue-energy",
-        0.32,
-        &[
-            Disc {
-                centre: [0.0, 0.08],
-                radius_m: 0.06,
-                rgb: [255, 0, 0],
-            },
-            Disc {
-                centre: [0.0, -0.08],
-                radius_m: 0.06,
-                rgb: [0, 0, 255],
-            },
-        ],
-    );
+    let pic = red_over_blue("red-over-blue-energy");
     let chase = "at = \"beat\"\ncolours = [\"#ff2000\", \"#20ff80\", \"#3040ff\"]\n\
                  along = \"chase\"\nchase_leds_per_beat = 3\nchase_width_leds = 2";
     let gradient = "at = \"beat\"\ncolours = [\"#ff8000\", \"#2040ff\"]\nalong = \"gradient\"\nfade_beats = 0.5";
@@ -674,22 +618,7 @@ fn oversized_exposures_are_refused_before_the_work() {
 /// added in one fixed order).
 #[test]
 fn strip_painting_does_not_depend_on_the_thread_count() {
-    let pic = disc_picture(
-        "red-over-blue-threads",
-        0.32,
-        &[
-            Disc {
-                centre: [0.0, 0.08],
-                radius_m: 0.06,
-                rgb: [255, 0, 0],
-            },
-            Disc {
-                centre: [0.0, -0.08],
-                radius_m: 0.06,
-                rgb: [0, 0, 255],
-            },
-        ],
-    );
+    let pic = red_over_blue("red-over-blue-threads");
     let s = setup(&show_text(
         &staff(24, 0.05, 0.6),
         FLOWER,

@@ -3,35 +3,11 @@
 
 mod common;
 
-use glowscore::cues::{Lights, place};
-use glowscore::events::find_events;
-use glowscore::model::Show;
-use glowscore::motion::{PropMotion, simulate};
-use glowscore::preview::{self, Film, Photo, Pinhole, PreviewOptions, Shutter, View};
+use glowscore::preview::{self, Film, Pinhole, PreviewOptions, Shutter, View};
 use nalgebra::{Matrix3, Vector3};
 use proptest::prelude::*;
 
-struct Setup {
-    show: Show,
-    motions: Vec<PropMotion>,
-    lights: Lights,
-}
-
-fn setup(text: &str) -> Setup {
-    let show = common::show(text);
-    let motions = simulate(&show);
-    let events = find_events(&show, &motions);
-    let lights = place(&show, &motions, &events);
-    Setup {
-        show,
-        motions,
-        lights,
-    }
-}
-
-fn shoot(s: &Setup, opts: &PreviewOptions) -> Photo {
-    preview::shoot(&s.show, &s.motions, &s.lights, opts, &|_, _| {}).expect("renders")
-}
+use common::{emitted, setup, shoot};
 
 /// A one-prop show: `prop` and `pattern` are extra TOML lines of those tables.
 fn one_prop(bpm: f64, rate: u32, prop: &str, pattern: &str, bars: u32, colour: &str) -> String {
@@ -69,29 +45,6 @@ fn ortho(viewport: [f64; 4], w: u32, h: u32, shutter: Shutter) -> PreviewOptions
         shutter,
         ..PreviewOptions::default()
     }
-}
-
-/// Sum over frames of LED power x the time each frame is inside the shutter
-/// window: the light the heads give off, LED-seconds per primary.
-fn emitted(s: &Setup, window: (f64, f64)) -> [f64; 3] {
-    let rate = f64::from(s.show.frame_rate_hz);
-    let mut sum = [0.0; 3];
-    for pl in &s.lights.props {
-        let mut frame = vec![[0u8; 3]; pl.leds as usize];
-        for k in 0..s.show.frame_count() {
-            let a = (k as f64 / rate).max(window.0);
-            let b = ((k + 1) as f64 / rate).min(window.1);
-            if b > a {
-                pl.fill_frame(&s.show, k, &mut frame);
-                for led in &frame {
-                    for c in 0..3 {
-                        sum[c] += f64::from(led[c]) / 255.0 * (b - a);
-                    }
-                }
-            }
-        }
-    }
-    sum
 }
 
 fn assert_close(got: [f64; 3], want: [f64; 3], rel: f64, what: &str) {

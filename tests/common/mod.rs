@@ -79,3 +79,53 @@ p = {{ pattern = "x", delay_beats = {delay_beats} }}
 "#
     ))
 }
+
+/// A show with its motion and placed lights, ready to render.
+pub struct Setup {
+    pub show: Show,
+    pub motions: Vec<glowscore::motion::PropMotion>,
+    pub lights: glowscore::cues::Lights,
+}
+
+/// The show of `text`, simulated, with its cues placed.
+#[track_caller]
+pub fn setup(text: &str) -> Setup {
+    let show = show(text);
+    let motions = glowscore::motion::simulate(&show);
+    let events = glowscore::events::find_events(&show, &motions);
+    let lights = glowscore::cues::place(&show, &motions, &events);
+    Setup {
+        show,
+        motions,
+        lights,
+    }
+}
+
+/// The exposed (undeveloped) picture of `s` with `opts`.
+pub fn shoot(s: &Setup, opts: &glowscore::preview::PreviewOptions) -> glowscore::preview::Photo {
+    glowscore::preview::shoot(&s.show, &s.motions, &s.lights, opts, &|_, _| {}).expect("renders")
+}
+
+/// Sum over LEDs and frames of LED power x the time each frame is inside
+/// the shutter `window` (seconds): the light the props give off,
+/// LED-seconds per primary.
+pub fn emitted(s: &Setup, window: (f64, f64)) -> [f64; 3] {
+    let rate = f64::from(s.show.frame_rate_hz);
+    let mut sum = [0.0; 3];
+    for pl in &s.lights.props {
+        let mut frame = vec![[0u8; 3]; pl.leds as usize];
+        for k in 0..s.show.frame_count() {
+            let a = (k as f64 / rate).max(window.0);
+            let b = ((k + 1) as f64 / rate).min(window.1);
+            if b > a {
+                pl.fill_frame(&s.show, k, &mut frame);
+                for led in &frame {
+                    for c in 0..3 {
+                        sum[c] += f64::from(led[c]) / 255.0 * (b - a);
+                    }
+                }
+            }
+        }
+    }
+    sum
+}
