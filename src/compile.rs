@@ -235,7 +235,8 @@ fn write_all(
     // The checks of the motion alone run while the tables are written.
     let (written, motion) = rayon::join(
         || write_tables(show, lights, frames, opts.header_form, dir),
-        || crate::check::motion_figures(show, motions, settings),
+        // `compile` checked the budget before placing the cues.
+        || crate::check::motion_figures_within(show, motions, settings),
     );
     let (tables, figures) = written?;
     let motion = motion.map_err(|e| CompileError::Check(e.to_string()))?;

@@ -203,7 +203,7 @@ pub fn check(
     within_budget(show, motions, settings)?;
     let found = events::find_events(show, motions);
     let lights = cues::place(show, motions, &found);
-    check_with_lights(show, motions, &lights, settings)
+    checked(show, motions, &lights, settings)
 }
 
 /// What the checks read off the frame tables.
@@ -268,8 +268,22 @@ pub fn check_with_lights(
     settings: &CheckSettings,
 ) -> Result<CheckReport, CheckError> {
     within_budget(show, motions, settings)?;
-    let frames = frame_figures(show, lights);
-    check_with_frames(show, motions, lights, frames, settings)
+    checked(show, motions, lights, settings)
+}
+
+/// [`check_with_lights`] for a show already within the budget: the frames
+/// are read while the motion is checked.
+fn checked(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    settings: &CheckSettings,
+) -> Result<CheckReport, CheckError> {
+    let (frames, motion) = rayon::join(
+        || frame_figures(show, lights),
+        || motion_figures_within(show, motions, settings),
+    );
+    Ok(report_of(show, lights, motion?, frames, settings))
 }
 
 /// The figures that come from the motion alone, before any frame is read:
@@ -298,6 +312,16 @@ pub fn motion_figures(
     settings: &CheckSettings,
 ) -> Result<MotionFigures, CheckError> {
     within_budget(show, motions, settings)?;
+    motion_figures_within(show, motions, settings)
+}
+
+/// [`motion_figures`] for a show already found within the budget (the
+/// coverage pass still refuses its own part, which it plans anyway).
+pub(crate) fn motion_figures_within(
+    show: &Show,
+    motions: &[PropMotion],
+    settings: &CheckSettings,
+) -> Result<MotionFigures, CheckError> {
     let centre = reach::centre_line(show);
     let (scans, painted) = rayon::join(
         || -> Vec<prop::PropScan> {
