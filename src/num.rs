@@ -164,6 +164,13 @@ pub fn brent(mut f: impl FnMut(f64) -> f64, a: f64, b: f64, tol: f64) -> Option<
     Some(b)
 }
 
+/// Rounds to `digits` decimal places, for stable, readable JSON.
+pub fn round_to(x: f64, digits: i32) -> f64 {
+    let k = 10f64.powi(digits);
+    let r = (x * k).round() / k;
+    if r == 0.0 { 0.0 } else { r }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -14,8 +14,8 @@ use serde::ser::{SerializeMap, Serializer};
 use super::coverage::PaintingCoverage;
 use super::landing::{CueLanding, LandingSummary};
 use super::light::FlashFigures;
-use crate::commands::round_to;
 use crate::model::Show;
+use crate::num::round_to;
 
 /// What a warning is about.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]

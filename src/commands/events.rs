@@ -5,10 +5,11 @@ use std::path::Path;
 
 use serde::Serialize;
 
-use super::{Failure, round_to};
+use super::Failure;
 use crate::events::{Event, find_events};
 use crate::model::Show;
 use crate::motion::simulate;
+use crate::num::round_to;
 
 /// One event as the contract's JSON gives it.
 #[derive(Serialize)]

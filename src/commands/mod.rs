@@ -48,10 +48,3 @@ pub fn check_tolerance(tolerance_mm: f64) -> Result<(), Failure> {
         "--tolerance-mm must be a positive number of millimetres, got {tolerance_mm}"
     )))
 }
-
-/// Rounds to `digits` decimal places, for stable, readable JSON.
-pub fn round_to(x: f64, digits: i32) -> f64 {
-    let k = 10f64.powi(digits);
-    let r = (x * k).round() / k;
-    if r == 0.0 { 0.0 } else { r }
-}

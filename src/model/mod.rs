@@ -9,8 +9,12 @@ use std::sync::Arc;
 use nalgebra::Vector3;
 
 use crate::diag::Source;
-use crate::motion::TempoMap;
+mod tempo;
+mod wire;
+
 pub use crate::picture::{FixedTo, Picture, PicturePlacement};
+pub use tempo::TempoMap;
+pub use wire::WireOrder;
 
 /// A whole show, ready to simulate.
 #[derive(Clone, Debug)]
@@ -149,7 +153,7 @@ pub struct Prop {
     /// Scale applied to linear LED values, 0..=1.
     pub brightness: f64,
     /// Byte order of each LED's channels in the binary tables and C header.
-    pub wire_order: crate::output::WireOrder,
+    pub wire_order: WireOrder,
     // Long-exposure previews (`preview`):
     /// Standard deviation of each LED's glow (diffuser and lens blur),
     /// millimetres, as given; `None`: the preview picks one

@@ -7,14 +7,13 @@
 //! prop rests: hand at the anchor, head hanging straight down.
 
 pub mod curve;
-pub mod tempo;
 
 use std::f64::consts::{PI, TAU};
 
 use nalgebra::Vector3;
 
+pub use crate::model::TempoMap;
 pub use curve::{Curve, Jet, Rotor};
-pub use tempo::TempoMap;
 
 use crate::model::{Plane, Show};
 use crate::num;

@@ -18,8 +18,8 @@ mod error;
 mod full;
 mod reader;
 mod spec;
-mod wire;
 
+pub use crate::model::WireOrder;
 pub use c_header::{CHeaderText, CHeaderWriter, c_identifier};
 pub use compact::{CompactTableWriter, FADE_FRACTION_BITS, SegmentKind};
 pub use csv::CsvWriter;
@@ -30,7 +30,6 @@ pub use spec::{
     FORMAT_VERSION, HEADER_LEN, MAGIC_COMPACT, MAGIC_FULL, REQUIRED_FLAGS_MASK, TRAILER_LEN,
     TableForm, TableSpec,
 };
-pub use wire::WireOrder;
 
 /// A streaming writer of one table: push every frame, then finish.
 pub trait FrameWriter {

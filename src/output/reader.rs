@@ -9,7 +9,7 @@ use super::spec::{
     FORMAT_VERSION, HEADER_LEN, MAGIC_COMPACT, MAGIC_FULL, REQUIRED_FLAGS_MASK, TRAILER_LEN,
     TableForm, TableSpec,
 };
-use super::wire::WireOrder;
+use crate::model::WireOrder;
 
 /// A validated binary table borrowed from its bytes; frames are read on demand, in wire order.
 #[derive(Clone, Copy, Debug)]

@@ -6,7 +6,7 @@
 use std::io::{BufWriter, Write};
 
 use super::error::OutputError;
-use super::wire::WireOrder;
+use crate::model::WireOrder;
 
 /// Magic of a full binary table: every frame stored.
 pub const MAGIC_FULL: [u8; 4] = *b"GSTF";

@@ -18,8 +18,7 @@ use crate::model::{
     Along, Cue, End, EventKind, FixedTo, LedDriver, Look, Painting, Pattern, Picture,
     PicturePlacement, Placement, Plane, Prop, PropKind, Section, Show, Steps, Strip, Term,
 };
-use crate::motion::TempoMap;
-use crate::output::WireOrder;
+use crate::model::{TempoMap, WireOrder};
 use reader::{Ctx, Tbl, describe, join, list};
 
 /// Data clock of a clocked (two-wire) LED line when `driver_clock_hz` is not
