@@ -3,9 +3,8 @@
 //! Needs in Cargo.toml: `[[bench]] name = "formats"` with `harness = false`.
 
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
-use glowscore::output::{
-    CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, TableSpec, WireOrder,
-};
+use glowscore::model::WireOrder;
+use glowscore::output::{CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, TableSpec};
 use std::hint::black_box;
 use std::io::sink;
 

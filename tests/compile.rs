@@ -160,7 +160,7 @@ fn the_c_decoder_reproduces_every_frame_of_the_demo_shows() {
             let order = report["compile"]["tables"][&stem]["wire_order"]
                 .as_str()
                 .unwrap();
-            let order = glowscore::output::WireOrder::from_name(order).unwrap();
+            let order = glowscore::model::WireOrder::from_name(order).unwrap();
             let mut expect = Vec::new();
             for rgb in csv_frames(&csv).concat().chunks(3) {
                 let mut b = vec![0u8; order.bytes_per_led()];

@@ -4,9 +4,10 @@
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
+use glowscore::model::WireOrder;
 use glowscore::output::{
     CHeaderWriter, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, TableForm,
-    TableSpec, WireOrder, read_table,
+    TableSpec, read_table,
 };
 
 fn doc(name: &str) -> String {

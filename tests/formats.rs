@@ -7,9 +7,10 @@ use std::io::{self, Write};
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
+use glowscore::model::WireOrder;
 use glowscore::output::{
     CHeaderWriter, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, OutputError,
-    ReadError, SegmentKind, TableForm, TableSpec, WireOrder, WriteStats, read_table,
+    ReadError, SegmentKind, TableForm, TableSpec, WriteStats, read_table,
 };
 
 // ---------------------------------------------------------------------------

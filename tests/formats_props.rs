@@ -1,8 +1,7 @@
 //! Property tests: the compact encoder is lossless on any frames, and the reader never panics.
 
-use glowscore::output::{
-    CompactTableWriter, FrameWriter, FullTableWriter, TableSpec, WireOrder, read_table,
-};
+use glowscore::model::WireOrder;
+use glowscore::output::{CompactTableWriter, FrameWriter, FullTableWriter, TableSpec, read_table};
 use proptest::prelude::*;
 
 /// A stretch of frames: a hold, a ramp by the documented fade rule, or noise.

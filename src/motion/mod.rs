@@ -12,10 +12,9 @@ use std::f64::consts::{PI, TAU};
 
 use nalgebra::Vector3;
 
-pub use crate::model::TempoMap;
 pub use curve::{Curve, Jet, Rotor};
 
-use crate::model::{Plane, Show};
+use crate::model::{Plane, Show, TempoMap};
 use crate::num;
 
 /// One prop playing one pattern through one section.

@@ -19,7 +19,6 @@ mod full;
 mod reader;
 mod spec;
 
-pub use crate::model::WireOrder;
 pub use c_header::{CHeaderText, CHeaderWriter, c_identifier};
 pub use compact::{CompactTableWriter, FADE_FRACTION_BITS, SegmentKind};
 pub use csv::CsvWriter;

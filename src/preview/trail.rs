@@ -33,8 +33,9 @@ use rayon::prelude::*;
 
 use super::PreviewError;
 use crate::cues::Lights;
+use crate::model::TempoMap;
 use crate::model::{Prop, Show};
-use crate::motion::{Curve, PropMotion, Span, TempoMap};
+use crate::motion::{Curve, PropMotion, Span};
 
 /// The most points of light one picture may be made of (they are streamed,
 /// so this bounds the time, not the memory).
