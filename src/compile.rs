@@ -17,14 +17,13 @@ use serde::Serialize;
 
 use crate::check::light::{LightScan, LightTally};
 use crate::check::{CheckReport, CheckSettings, FrameFigures};
-use crate::cues::{self, Landing, Lights};
-use crate::events::find_events;
+use crate::cues::Landing;
 use crate::model::Show;
-use crate::motion::{PropMotion, simulate};
 use crate::output::{
     CHeaderText, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, OutputError,
     TableForm, TableSpec, WriteStats,
 };
+use crate::prepared::Prepared;
 use crate::preview::{self, PreviewOptions};
 
 /// Most frames a show may have.
@@ -158,39 +157,19 @@ pub fn check_limits(show: &Show) -> Result<u32, CompileError> {
     Ok(frames as u32)
 }
 
-/// Compiles `show` into `opts.out_dir`.
+/// Compiles the prepared show into `opts.out_dir`.
 pub fn compile(
-    show: &Show,
+    prepared: &Prepared,
     opts: &CompileOptions,
 ) -> Result<(CompileSummary, CheckReport), CompileError> {
+    let show = prepared.show();
     check_limits(show)?;
-    let motions = simulate(show);
     let settings = CheckSettings {
         tolerance_mm: opts.tolerance_mm,
         ..CheckSettings::default()
     };
-    let check_error = |e: crate::check::CheckError| CompileError::Check(e.to_string());
-    crate::check::within_budget(show, &motions, &settings).map_err(check_error)?;
-    let events = find_events(show, &motions);
-    let mut lights = cues::place(show, &motions, &events);
-    // Props with `brightness_limit = true` are dimmed to stay within their
-    // `max_current_a`: that needs their peak current, from a first pass.
-    let mut dimmed = Vec::new();
-    if show
-        .props
-        .iter()
-        .any(|p| p.brightness_limit && p.max_current_a.is_some())
-    {
-        let scan = crate::check::light::scan(show, &lights);
-        for (pl, figures) in lights.props.iter_mut().zip(&scan.props) {
-            let scale = figures.brightness_scale.unwrap_or(1.0);
-            if scale < 1.0 {
-                pl.brightness *= scale;
-                dimmed.push((show.props[pl.prop].name.clone(), scale));
-            }
-        }
-    }
-
+    crate::check::within_budget(prepared, &settings)
+        .map_err(|e| CompileError::Check(e.to_string()))?;
     let io = |what: &Path, e: std::io::Error| {
         CompileError::Io(format!("cannot write `{}`: {e}", what.display()))
     };
@@ -200,7 +179,7 @@ pub fn compile(
         .join(format!(".glowscore-staging-{}", std::process::id()));
     let _ = fs::remove_dir_all(&staging);
     fs::create_dir(&staging).map_err(|e| io(&staging, e))?;
-    let result = write_all(show, &motions, &lights, &settings, opts, &staging, &dimmed);
+    let result = write_all(prepared, &settings, opts, &staging);
     let outcome = result.and_then(|(summary, report)| {
         let mut names: Vec<String> = summary
             .tables
@@ -222,27 +201,25 @@ pub fn compile(
 /// Writes every file into `dir`: the tables (gathering the light figures as
 /// the frames go by), the previews, then the check report.
 fn write_all(
-    show: &Show,
-    motions: &[PropMotion],
-    lights: &Lights,
+    prepared: &Prepared,
     settings: &CheckSettings,
     opts: &CompileOptions,
     dir: &Path,
-    dimmed: &[(String, f64)],
 ) -> Result<(CompileSummary, CheckReport), CompileError> {
+    let (show, lights) = (prepared.show(), prepared.lights());
     // Within u32: `check_limits` has passed.
     let frames = show.frame_count() as u32;
     // The checks of the motion alone run while the tables are written.
     let (written, motion) = rayon::join(
-        || write_tables(show, lights, frames, opts.header_form, dir),
-        // `compile` checked the budget before placing the cues.
-        || crate::check::motion_figures_within(show, motions, settings),
+        || write_tables(prepared, frames, opts.header_form, dir),
+        // `compile` checked the budget before anything was written.
+        || crate::check::motion_figures(prepared, settings),
     );
     let (tables, figures) = written?;
     let motion = motion.map_err(|e| CompileError::Check(e.to_string()))?;
-    let report = crate::check::report_of(show, lights, motion, figures, settings);
+    let report = crate::check::report_of(prepared, motion, figures, settings);
     let previews = if opts.previews {
-        preview::write_previews(show, motions, lights, dir, &opts.preview)?
+        preview::write_previews(prepared, dir, &opts.preview)?
             .iter()
             .filter_map(|p| p.file_name().map(|n| n.to_string_lossy().into_owned()))
             .collect()
@@ -263,7 +240,12 @@ fn write_all(
         previews,
         worst_landing,
         warnings: report.warnings.len(),
-        dimmed: dimmed.to_vec(),
+        dimmed: (0..show.props.len())
+            .filter_map(|i| {
+                let k = prepared.brightness_scale(i).filter(|&k| k < 1.0)?;
+                Some((show.props[i].name.clone(), k))
+            })
+            .collect(),
     };
     write_report(&dir.join("report.json"), &summary, &report)?;
     Ok((summary, report))
@@ -597,17 +579,17 @@ impl PropWriters {
 /// Streams every frame of every prop into its four files, block by block,
 /// and gathers the figures the check reads off the frames on the way.
 fn write_tables(
-    show: &Show,
-    lights: &Lights,
+    prepared: &Prepared,
     frames: u32,
     header_form: TableForm,
     dir: &Path,
 ) -> Result<(Vec<(String, PropTables)>, FrameFigures), CompileError> {
+    let (show, lights) = (prepared.show(), prepared.lights());
     let mut writers: Vec<PropWriters> = (0..show.props.len())
         .map(|i| PropWriters::open(show, i, frames, header_form, dir))
         .collect::<Result<_, _>>()?;
     let mut tally = LightTally::new(show);
-    cues::for_each_block(show, lights, u64::from(frames), |_, n, blocks| {
+    prepared.for_each_block(|_, n, blocks| {
         let (written, ()) = rayon::join(
             || {
                 writers
@@ -697,7 +679,7 @@ mod tests {
         let dir = std::env::temp_dir().join(format!("glowscore-here-{}", std::process::id()));
         let mut opts = CompileOptions::new(dir.clone());
         opts.previews = false;
-        compile(&show, &opts).unwrap();
+        compile(&Prepared::new(show).unwrap(), &opts).unwrap();
         let last = format!("p{}", n - 1);
         for ext in ["csv", "full.bin", "compact.bin", "h"] {
             let a = fs::read(dir.join(format!("p0.{ext}"))).unwrap();

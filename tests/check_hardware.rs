@@ -15,7 +15,8 @@ fn show(extra_prop_keys: &str, frame_rate: u32, bars: u32) -> String {
 
 fn report(text: &str) -> glowscore::check::report::CheckReport {
     let show = glowscore::show::parse("hw.toml", text.to_string()).unwrap();
-    glowscore::check::check_show(&show).unwrap()
+    let prepared = glowscore::prepared::Prepared::new(show).unwrap();
+    glowscore::check::check(&prepared, &Default::default()).unwrap()
 }
 
 fn kinds(r: &glowscore::check::report::CheckReport) -> Vec<&'static str> {

@@ -12,8 +12,9 @@ mod common;
 
 use std::f64::consts::{PI, TAU};
 
+use common::check_show;
 use glowscore::check::tension::G0;
-use glowscore::check::{CheckReport, WarningKind, check_show};
+use glowscore::check::{CheckReport, WarningKind};
 use glowscore::num;
 
 /// A one-prop show at `bpm` (4 beats a bar), with pattern keys as TOML lines.

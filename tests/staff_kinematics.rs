@@ -21,9 +21,10 @@ mod common;
 
 use std::f64::consts::{PI, TAU};
 
+use common::check_show;
 use glowscore::check::kin::{Kin, end_curves};
 use glowscore::check::tension::G0;
-use glowscore::check::{CheckReport, WarningKind, check_show};
+use glowscore::check::{CheckReport, WarningKind};
 use glowscore::model::Show;
 use glowscore::motion::PropMotion;
 

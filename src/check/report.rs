@@ -447,7 +447,7 @@ pub const CAUTIONS: [&str; 5] = [
 impl CheckReport {
     /// The report of an invalid show: `valid = false` and its errors.
     pub fn invalid(diags: &crate::diag::Diagnostics) -> CheckReport {
-        let errors = diags
+        let errors: Vec<ErrorEntry> = diags
             .0
             .iter()
             .map(|d| {
@@ -460,6 +460,21 @@ impl CheckReport {
                 }
             })
             .collect();
+        CheckReport::with_errors(errors)
+    }
+
+    /// The report of a valid show refused as too much work: `valid = false`
+    /// and the reason as its one error.
+    pub fn refused(message: String) -> CheckReport {
+        CheckReport::with_errors(vec![ErrorEntry {
+            message,
+            key: None,
+            line: None,
+            column: None,
+        }])
+    }
+
+    fn with_errors(errors: Vec<ErrorEntry>) -> CheckReport {
         CheckReport {
             valid: false,
             title: String::new(),

@@ -1,0 +1,194 @@
+//! One prepared show for every command: `compile`, `check` and `preview`
+//! read the same frames, so they give the same currents, the same warnings
+//! and the same pixels. The show has what used to make them disagree: a
+//! prop dimmed by `brightness_limit`, a mirrored prop and a painting.
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_glowscore"))
+}
+
+fn folder(name: &str) -> PathBuf {
+    let dir =
+        std::env::temp_dir().join(format!("glowscore-pipeline-{}-{name}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+/// Writes the show and its picture into `dir`; returns the show's path.
+fn write_show(dir: &Path) -> PathBuf {
+    // A 16 x 16 picture: red top half, blue bottom half.
+    let mut pic = image::RgbImage::new(16, 16);
+    for (_, y, px) in pic.enumerate_pixels_mut() {
+        *px = if y < 8 {
+            image::Rgb([255, 0, 0])
+        } else {
+            image::Rgb([0, 0, 255])
+        };
+    }
+    pic.save(dir.join("halves.png")).unwrap();
+    let text = r##"
+[show]
+title = "Three Answers"
+frame_rate = 200
+bpm = 120
+beats_per_bar = 4
+
+[prop.a]
+tether_m = 0.5
+anchor_m = [-0.6, 1.4, 0.0]
+strip = { leds = 12, from_m = 0.05, to_m = 0.5 }
+max_current_a = 0.3
+brightness_limit = true
+
+[prop.b]
+tether_m = 0.5
+anchor_m = [0.6, 1.4, 0.0]
+leds = 4
+
+[prop.c]
+tether_m = 0.5
+anchor_m = [0.0, 1.4, -1.5]
+strip = { leds = 16, from_m = 0.05, to_m = 0.5 }
+
+[pattern.flower]
+plane = "wall"
+beats = 4
+hand_radius_m = 0.15
+head_turns = -3
+
+[pattern.wheel]
+plane = "wall"
+beats = 2
+hand_radius_m = 0.0
+head_turns = 1
+
+[[section]]
+bars = [1, 2]
+a = "flower"
+b = { pattern = "flower", mirror = true }
+c = "wheel"
+
+[[cue]]
+prop = "a"
+bars = [1, 2]
+at = "tip"
+colours = ["white", "gold"]
+
+[[cue]]
+prop = "b"
+bars = [1, 2]
+at = "tip"
+colours = ["red", "teal"]
+
+[[cue]]
+prop = "c"
+bars = [1, 2]
+image = "halves.png"
+image_width_m = 1.0
+image_centre_m = [0.0, 1.4]
+"##;
+    let path = dir.join("three.toml");
+    std::fs::write(&path, text).unwrap();
+    path
+}
+
+#[test]
+fn compile_check_and_preview_agree_on_a_dimmed_mirrored_painted_show() {
+    let dir = folder("agree");
+    let show = write_show(&dir);
+    let out = dir.join("out");
+    let compiled = bin()
+        .args([
+            "compile",
+            show.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+        ])
+        .output()
+        .unwrap();
+    assert!(
+        compiled.status.success(),
+        "{}",
+        String::from_utf8_lossy(&compiled.stderr)
+    );
+    let checked = bin()
+        .args(["check", show.to_str().unwrap(), "--json"])
+        .output()
+        .unwrap();
+    assert!(
+        checked.status.success(),
+        "{}",
+        String::from_utf8_lossy(&checked.stderr)
+    );
+
+    // The report in the output folder is the check's report plus the
+    // compile's own section.
+    let mut report: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(out.join("report.json")).unwrap()).unwrap();
+    let compile = report
+        .as_object_mut()
+        .unwrap()
+        .remove("compile")
+        .expect("compile section");
+    let check: serde_json::Value = serde_json::from_slice(&checked.stdout).unwrap();
+    assert_eq!(report, check, "report.json and check --json differ");
+
+    // Prop a is dimmed, everywhere the same: within its limit, no current
+    // warning, the applied scale reported by both.
+    let a = &check["props"]["a"];
+    let peak = a["peak_current_a"].as_f64().unwrap();
+    assert!(peak <= 0.3, "peak {peak} A over the 0.3 A limit");
+    let scale = a["brightness_scale"].as_f64().unwrap();
+    assert!(scale > 0.0 && scale < 1.0, "scale {scale}");
+    let applied = compile["brightness_scale_applied"]["a"].as_f64().unwrap();
+    assert!((applied - scale).abs() < 1e-9, "{applied} vs {scale}");
+    let warnings = check["warnings"].as_array().unwrap();
+    assert!(
+        !warnings.iter().any(|w| w["kind"] == "current"),
+        "{warnings:?}"
+    );
+
+    // The preview command draws what compile drew.
+    let picture = dir.join("preview.png");
+    let previewed = bin()
+        .args([
+            "preview",
+            show.to_str().unwrap(),
+            "--out",
+            picture.to_str().unwrap(),
+        ])
+        .output()
+        .unwrap();
+    assert!(
+        previewed.status.success(),
+        "{}",
+        String::from_utf8_lossy(&previewed.stderr)
+    );
+    let ours = image::open(&picture).unwrap().to_rgb8();
+    let compiled_picture = image::open(out.join("preview.png")).unwrap().to_rgb8();
+    assert_eq!(ours.dimensions(), compiled_picture.dimensions());
+    let differing = ours
+        .pixels()
+        .zip(compiled_picture.pixels())
+        .position(|(p, q)| p != q);
+    assert_eq!(differing, None, "first differing pixel (row-major index)");
+
+    // And the table's brightest frame of prop a is the dimmed one: no LED
+    // byte above the scaled white.
+    let csv = std::fs::read_to_string(out.join("a.csv")).unwrap();
+    let max_byte = csv
+        .lines()
+        .skip(1)
+        .flat_map(|l| l.split(',').skip(2).map(|v| v.parse::<u32>().unwrap()))
+        .max()
+        .unwrap();
+    assert!(
+        f64::from(max_byte) <= (scale * 255.0).round(),
+        "{max_byte} vs scale {scale}"
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}
