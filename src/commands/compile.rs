@@ -52,16 +52,18 @@ pub fn run(
     )
     .map_err(&io)?;
     for (name, t) in &summary.tables {
+        let files: Vec<String> = t
+            .files
+            .iter()
+            .map(|(_, f)| format!("{} {} B", f.file, f.bytes))
+            .collect();
         writeln!(
             log,
-            "  {name}: {} LED{} ({}), full table {} B, compact {} B, C header {} B, CSV {} B",
+            "  {name}: {} LED{} ({}): {}",
             t.leds,
             if t.leds == 1 { "" } else { "s" },
             t.wire_order,
-            t.full.bytes,
-            t.compact.bytes,
-            t.header.bytes,
-            t.csv.bytes
+            files.join(", ")
         )
         .map_err(&io)?;
     }
