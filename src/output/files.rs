@@ -20,7 +20,7 @@ use serde::Serialize;
 use serde::ser::SerializeMap;
 
 use super::{
-    CHeaderWriter, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, OutputError,
+    CHeaderText, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, OutputError,
     TableForm, TableSpec, WriteStats,
 };
 
@@ -40,7 +40,7 @@ pub trait PropFile: Send {
     /// Takes the next frames, one after the other in `frames`.
     fn push_frames(&mut self, frames: &[[u8; 3]], leds: usize) -> Result<(), OutputError>;
     /// Completes the file and reports its size (and CRC for binary tables).
-    fn finish(self: Box<Self>) -> Result<WriteStats, OutputError>;
+    fn finish(self: Box<Self>) -> Result<Finished, OutputError>;
 }
 
 /// One kind of file compile writes per prop.
@@ -52,9 +52,18 @@ pub struct Format {
     pub suffix: &'static str,
     /// Whether its CRC-32 goes into `report.json` (binary tables).
     pub reports_crc: bool,
-    /// Opens the streaming writer into `out`.
-    pub open: fn(out: Output, opening: &Opening) -> Result<Box<dyn PropFile>, OutputError>,
+    /// The binary form it writes, if any: the C header embeds the bytes of
+    /// the format whose form it embeds as they are written, so that the
+    /// table is encoded once.
+    pub form: Option<TableForm>,
+
+    /// Opens the streaming writer into `out`; `None` for the C header,
+    /// whose text the format it embeds writes.
+    pub open: Option<OpenFn>,
 }
+
+/// How a [`Format`] opens its writer.
+pub type OpenFn = fn(out: Output, opening: &Opening) -> Result<Box<dyn PropFile>, OutputError>;
 
 /// Every file compile writes per prop, in the order of `report.json`.
 pub const FORMATS: [Format; 4] = [
@@ -62,38 +71,78 @@ pub const FORMATS: [Format; 4] = [
         key: "csv",
         suffix: ".csv",
         reports_crc: false,
-        open: |out, o| Ok(Box::new(CsvWriter::new(out, o.spec)?)),
+        form: None,
+        open: Some(|out, o| Ok(Box::new(CsvWriter::new(out, o.spec)?))),
     },
     Format {
         key: "full",
         suffix: ".full.bin",
         reports_crc: true,
-        open: |out, o| Ok(Box::new(FullTableWriter::new(out, o.spec)?)),
+        form: Some(TableForm::Full),
+        open: Some(|out, o| Ok(Box::new(FullTableWriter::new(out, o.spec)?))),
     },
     Format {
         key: "compact",
         suffix: ".compact.bin",
         reports_crc: true,
-        open: |out, o| Ok(Box::new(CompactTableWriter::new(out, o.spec)?)),
+        form: Some(TableForm::Compact),
+        open: Some(|out, o| Ok(Box::new(CompactTableWriter::new(out, o.spec)?))),
     },
     Format {
         key: "header",
         suffix: ".h",
         reports_crc: false,
-        open: |out, o| {
-            Ok(Box::new(HeaderFile(CHeaderWriter::new(
-                out,
-                o.spec,
-                o.prop,
-                o.header_form,
-            )?)))
-        },
+        form: None,
+        // Its text is written by the format it embeds (see `Output`).
+        open: None,
     },
 ];
 
 /// The output a [`PropFile`] writes to: its file, in chunks, by a thread of
-/// its own or by the caller.
-pub type Output = Background<File>;
+/// its own or by the caller; and, for the binary form the C header embeds,
+/// the header's text too.
+pub struct Output {
+    file: Background<File>,
+    header: Option<Background<CHeaderText<File>>>,
+}
+
+impl Output {
+    /// Finishes the file, and the header's text if it went there: its size.
+    fn finish(self) -> std::io::Result<Option<u64>> {
+        self.file.finish()?;
+        match self.header.map(Background::finish).transpose()? {
+            Some(text) => Ok(Some(text.finish().map_err(std::io::Error::other)?.1)),
+            None => Ok(None),
+        }
+    }
+}
+
+impl Write for Output {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        self.file.write_all(buf)?;
+        if let Some(h) = self.header.as_mut() {
+            h.write_all(buf)?;
+        }
+        Ok(buf.len())
+    }
+
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.file.flush()?;
+        if let Some(h) = self.header.as_mut() {
+            h.flush()?;
+        }
+        Ok(())
+    }
+}
+
+/// What a finished [`PropFile`] reports.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct Finished {
+    /// The file's own figures.
+    pub stats: WriteStats,
+    /// Characters of C header text written beside it, if it fed the header.
+    pub header_bytes: Option<u64>,
+}
 
 macro_rules! prop_file {
     ($ty:ident) => {
@@ -101,10 +150,13 @@ macro_rules! prop_file {
             fn push_frames(&mut self, frames: &[[u8; 3]], leds: usize) -> Result<(), OutputError> {
                 frames.chunks(leds).try_for_each(|f| self.push_frame(f))
             }
-            fn finish(self: Box<Self>) -> Result<WriteStats, OutputError> {
+            fn finish(self: Box<Self>) -> Result<Finished, OutputError> {
                 let (out, stats) = (*self).finish_into_inner()?;
-                out.finish()?;
-                Ok(stats)
+                let header_bytes = out.finish()?;
+                Ok(Finished {
+                    stats,
+                    header_bytes,
+                })
             }
         }
     };
@@ -113,20 +165,16 @@ prop_file!(CsvWriter);
 prop_file!(FullTableWriter);
 prop_file!(CompactTableWriter);
 
-/// The C header as a [`PropFile`]: its size is the text's.
-struct HeaderFile(CHeaderWriter<Output>);
+/// The C header's place in the list: its text is written by the format it
+/// embeds, so it takes no frames itself.
+struct Fed;
 
-impl PropFile for HeaderFile {
-    fn push_frames(&mut self, frames: &[[u8; 3]], leds: usize) -> Result<(), OutputError> {
-        frames.chunks(leds).try_for_each(|f| self.0.push_frame(f))
+impl PropFile for Fed {
+    fn push_frames(&mut self, _: &[[u8; 3]], _: usize) -> Result<(), OutputError> {
+        Ok(())
     }
-    fn finish(self: Box<Self>) -> Result<WriteStats, OutputError> {
-        let (out, stats) = self.0.finish_into_inner()?;
-        out.finish()?;
-        Ok(WriteStats {
-            crc32: None,
-            ..stats
-        })
+    fn finish(self: Box<Self>) -> Result<Finished, OutputError> {
+        Ok(Finished::default())
     }
 }
 
@@ -196,16 +244,48 @@ impl PropFiles {
     /// threads of their own when `index < THREADED_PROPS`) in `dir`.
     pub fn open(dir: &Path, index: usize, opening: &Opening) -> Result<PropFiles, FileError> {
         let threaded = index < THREADED_PROPS;
-        let mut files = Vec::with_capacity(FORMATS.len());
-        for format in FORMATS {
-            let name = format!("{}{}", opening.prop, format.suffix);
-            let fail = |source: OutputError| FileError {
+        let name_of = |format: &Format| format!("{}{}", opening.prop, format.suffix);
+        let create = |name: &str| {
+            File::create(dir.join(name)).map_err(|e| FileError {
+                file: name.to_string(),
+                source: e.into(),
+            })
+        };
+        // The header's text opens first: the format it embeds writes it.
+        let mut header = None;
+        for format in FORMATS.iter().filter(|f| f.open.is_none()) {
+            let name = name_of(format);
+            let text = CHeaderText::new(
+                create(&name)?,
+                opening.spec,
+                opening.prop,
+                opening.header_form,
+            )
+            .map_err(|source| FileError {
                 file: name.clone(),
                 source,
+            })?;
+            header = Some(Background::with_thread(text, threaded));
+        }
+        let mut files = Vec::with_capacity(FORMATS.len());
+        for format in FORMATS {
+            let name = name_of(&format);
+            let Some(open) = format.open else {
+                files.push((format, name, Box::new(Fed) as Box<dyn PropFile>));
+                continue;
             };
-            let file = File::create(dir.join(&name)).map_err(|e| fail(e.into()))?;
-            let writer =
-                (format.open)(Background::with_thread(file, threaded), opening).map_err(fail)?;
+            let out = Output {
+                file: Background::with_thread(create(&name)?, threaded),
+                header: if format.form == Some(opening.header_form) {
+                    header.take()
+                } else {
+                    None
+                },
+            };
+            let writer = open(out, opening).map_err(|source| FileError {
+                file: name.clone(),
+                source,
+            })?;
             files.push((format, name, writer));
         }
         Ok(PropFiles {
@@ -235,23 +315,35 @@ impl PropFiles {
     /// Finishes every file.
     pub fn finish(self, leds: u32, wire_order: &'static str) -> Result<PropTables, FileError> {
         let mut files = Vec::with_capacity(self.files.len());
+        let mut header_bytes = None;
         for (format, name, w) in self.files {
-            let stats = w.finish().map_err(|source| FileError {
+            let done = w.finish().map_err(|source| FileError {
                 file: name.clone(),
                 source,
             })?;
+            header_bytes = header_bytes.or(done.header_bytes);
             files.push((
-                format.key,
+                format,
                 FileInfo {
                     file: name,
-                    bytes: stats.bytes_written,
-                    crc32: stats
+                    bytes: done.stats.bytes_written,
+                    crc32: done
+                        .stats
                         .crc32
                         .filter(|_| format.reports_crc)
                         .map(|c| format!("0x{c:08x}")),
                 },
             ));
         }
+        let files = files
+            .into_iter()
+            .map(|(format, mut info)| {
+                if format.open.is_none() {
+                    info.bytes = header_bytes.unwrap_or(0);
+                }
+                (format.key, info)
+            })
+            .collect();
         Ok(PropTables {
             leds,
             wire_order,
