@@ -83,23 +83,52 @@ pub struct CompileSummary {
 /// Why a compile failed.
 #[derive(Debug, thiserror::Error)]
 pub enum CompileError {
-    /// The show is larger than the limits.
-    #[error("{0}")]
-    TooLarge(String),
-    /// Writing failed.
-    #[error("{0}")]
-    Io(String),
-    /// A file could not be written.
+    /// The tables would be larger than the limits.
+    #[error(
+        "the tables would be too large: {frames} frames ({seconds:.1} s at {rate} frames/s) x {leds} LEDs in all = {bytes} bytes; the limits are {MAX_FRAMES} frames and {MAX_TABLE_BYTES} bytes (lower `show.frame_rate`, shorten the show or use fewer LEDs)"
+    )]
+    TooLarge {
+        /// Frames in every table.
+        frames: u64,
+        /// The show's length, seconds.
+        seconds: f64,
+        /// Frames per second.
+        rate: u32,
+        /// LEDs of every prop together.
+        leds: u32,
+        /// Bytes of every full table together.
+        bytes: u64,
+    },
+    /// A file or folder could not be made, written or moved into place.
+    #[error("cannot write `{}`: {source}", path.display())]
+    Io {
+        /// The file or folder.
+        path: PathBuf,
+        /// The cause.
+        #[source]
+        source: std::io::Error,
+    },
+    /// A table file could not be written.
     #[error("{0}")]
     File(#[from] FileError),
     /// The check could not run.
     #[error("{0}")]
-    Check(String),
+    Check(#[from] crate::check::CheckError),
     /// A preview could not be rendered.
     #[error(
         "{0}; the tables were not written either: compile with --no-previews, and take pictures of parts of the show with `glowscore preview --bars A-B`"
     )]
     Preview(#[from] preview::PreviewError),
+}
+
+impl CompileError {
+    /// A failure to write `path`.
+    fn io(path: &Path) -> impl Fn(std::io::Error) -> CompileError + '_ {
+        move |source| CompileError::Io {
+            path: path.to_path_buf(),
+            source,
+        }
+    }
 }
 
 /// Refuses a show whose tables would exceed [`MAX_FRAMES`] or
@@ -113,13 +142,13 @@ pub fn check_limits(show: &Show) -> Result<u32, CompileError> {
         .sum();
     if frames > MAX_FRAMES || bytes > MAX_TABLE_BYTES {
         let leds: u32 = show.props.iter().map(|p| p.leds).sum();
-        return Err(CompileError::TooLarge(format!(
-            "the tables would be too large: {frames} frames ({:.1} s at {} frames/s) x {leds} LEDs \
-             in all = {bytes} bytes; the limits are {MAX_FRAMES} frames and {MAX_TABLE_BYTES} bytes \
-             (lower `show.frame_rate`, shorten the show or use fewer LEDs)",
-            show.end_s(),
-            show.frame_rate_hz
-        )));
+        return Err(CompileError::TooLarge {
+            frames,
+            seconds: show.end_s(),
+            rate: show.frame_rate_hz,
+            leds,
+            bytes,
+        });
     }
     Ok(frames as u32)
 }
@@ -135,11 +164,8 @@ pub fn compile(
         tolerance_mm: opts.tolerance_mm,
         ..CheckSettings::default()
     };
-    crate::check::within_budget(prepared, &settings)
-        .map_err(|e| CompileError::Check(e.to_string()))?;
-    let io = |what: &Path, e: std::io::Error| {
-        CompileError::Io(format!("cannot write `{}`: {e}", what.display()))
-    };
+    crate::check::within_budget(prepared, &settings)?;
+    let io = |what: &Path, e: std::io::Error| CompileError::io(what)(e);
     fs::create_dir_all(&opts.out_dir).map_err(|e| io(&opts.out_dir, e))?;
     let staging = opts
         .out_dir
@@ -183,7 +209,7 @@ fn write_all(
         || crate::check::motion_figures(prepared, settings),
     );
     let (tables, figures) = written?;
-    let motion = motion.map_err(|e| CompileError::Check(e.to_string()))?;
+    let motion = motion?;
     let report = crate::check::report_of(prepared, motion, figures, settings);
     let previews = if opts.previews {
         preview::write_previews(prepared, dir, &opts.preview)?
@@ -255,8 +281,7 @@ fn write_report(
     summary: &CompileSummary,
     report: &CheckReport,
 ) -> Result<(), CompileError> {
-    let io =
-        |e: std::io::Error| CompileError::Io(format!("cannot write `{}`: {e}", path.display()));
+    let io = CompileError::io(path);
     let file = ReportFile {
         check: report,
         compile: CompileSection {
@@ -268,10 +293,10 @@ fn write_report(
             brightness_scale_applied: &summary.dimmed,
         },
     };
-    let mut f = BufWriter::new(File::create(path).map_err(io)?);
+    let mut f = BufWriter::new(File::create(path).map_err(&io)?);
     serde_json::to_writer_pretty(&mut f, &file).map_err(|e| io(e.into()))?;
-    writeln!(f).map_err(io)?;
-    f.flush().map_err(io)
+    writeln!(f).map_err(&io)?;
+    f.flush().map_err(&io)
 }
 
 /// Streams every frame of every prop into its files ([`crate::output::FORMATS`]), block by

@@ -84,16 +84,23 @@ impl Default for CheckSettings {
 pub const MAX_SAMPLES: f64 = 2e8;
 
 /// Why a show could not be checked.
-#[derive(Clone, Debug, PartialEq)]
+#[derive(Clone, Debug, PartialEq, thiserror::Error)]
 pub enum CheckError {
     /// The searches would need more than [`MAX_SAMPLES`] samples (or a
     /// pattern turns so fast that the count is not finite).
+    #[error(
+        "checking this show would take {samples:.3e} samples, more than the limit of {MAX_SAMPLES:.0e}: the show is too long or its patterns turn too fast"
+    )]
     TooMuchWork {
         /// Sample intervals needed.
         samples: f64,
     },
     /// The picture coverage would need more than
     /// [`coverage::MAX_TEXEL_TESTS`] texel tests.
+    #[error(
+        "checking how much of the pictures the LEDs reach would take {tests:.3e} texel tests, more than the limit of {max:.0e} (cue {cue} needs the most): use fewer LEDs, a lower frame rate or shorter painting cues",
+        max = coverage::MAX_TEXEL_TESTS
+    )]
     TooMuchPainting {
         /// The cue that needs the most, index from 0 in file order.
         cue: usize,
@@ -101,24 +108,6 @@ pub enum CheckError {
         tests: f64,
     },
 }
-
-impl std::fmt::Display for CheckError {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        match self {
-            CheckError::TooMuchWork { samples } => write!(
-                f,
-                "checking this show would take {samples:.3e} samples, more than the limit of {MAX_SAMPLES:.0e}: the show is too long or its patterns turn too fast"
-            ),
-            CheckError::TooMuchPainting { cue, tests } => write!(
-                f,
-                "checking how much of the pictures the LEDs reach would take {tests:.3e} texel tests, more than the limit of {:.0e} (cue {cue} needs the most): use fewer LEDs, a lower frame rate or shorter painting cues",
-                coverage::MAX_TEXEL_TESTS
-            ),
-        }
-    }
-}
-
-impl std::error::Error for CheckError {}
 
 /// Checks the prepared show: physics, stage, light, hardware, landing and
 /// picture coverage, with `settings`; refuses a show whose checks would need

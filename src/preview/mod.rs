@@ -69,16 +69,17 @@ pub enum PreviewError {
     #[error("{0}")]
     TooLarge(String),
     /// Writing a file failed.
-    #[error("cannot write `{path}`: {message}")]
+    #[error("cannot write `{}`: {source}", path.display())]
     Io {
         /// The file.
-        path: String,
+        path: PathBuf,
         /// What went wrong.
-        message: String,
+        #[source]
+        source: std::io::Error,
     },
     /// Encoding the PNG failed.
     #[error("cannot encode the PNG: {0}")]
-    Encode(String),
+    Encode(#[from] image::ImageError),
 }
 
 /// When the shutter is open. Left out: the whole show.
