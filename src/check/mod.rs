@@ -40,6 +40,7 @@ pub mod report;
 pub mod search;
 pub mod spin;
 pub mod tension;
+mod text;
 
 pub use report::{CheckReport, EndFigures, PairFigures, PropFigures, Warning, WarningKind, When};
 
@@ -64,6 +65,15 @@ pub struct CheckSettings {
     /// A cue whose colour changes land further than this from their events
     /// warns, millimetres of head travel.
     pub tolerance_mm: f64,
+}
+
+impl CheckSettings {
+    /// The jump that warns, metres: `jump_limit_m`, and never less than the
+    /// landing tolerance (a head that jumps less than a colour change may
+    /// land off is not worth a warning of its own).
+    pub fn jump_limit(&self) -> f64 {
+        self.jump_limit_m.max(self.tolerance_mm / 1000.0)
+    }
 }
 
 impl Default for CheckSettings {
@@ -279,7 +289,7 @@ pub(crate) fn motion_figures(
         props.push(s.figures);
     }
     for m in motions {
-        warnings.extend(jumps::jumps(show, m, settings.jump_limit_m));
+        warnings.extend(jumps::jumps(show, m, settings.jump_limit()));
     }
     Ok(MotionFigures {
         any: !motions.is_empty(),
@@ -350,7 +360,7 @@ pub(crate) fn report_of(
         stage: any.then(|| reach::stage(centre, &hands, &heads, settings.clear_margin_m)),
         limits: Some(report::Limits {
             spin_rate_turns_per_s: settings.spin_limit_turns_per_s,
-            jump_m: settings.jump_limit_m,
+            jump_m: settings.jump_limit(),
             gravity_m_s2: tension::G0,
         }),
         stage_flash: light_scan.stage_flash,
