@@ -101,11 +101,12 @@ fn check(show: &Show) -> CheckReport {
     check_show(show).expect("within the budget")
 }
 
-fn coverage_warnings(r: &CheckReport) -> Vec<&glowscore::check::Warning> {
+fn coverage_warnings(r: &CheckReport) -> Vec<glowscore::check::Warning> {
     r.warnings
         .iter()
         .filter(|w| w.kind == WarningKind::Coverage)
-        .collect()
+        .flat_map(|w| w.instances())
+        .collect::<Vec<_>>()
 }
 
 /// Bounds on the visible texels of `pic` (placed at `place`, not turning)
@@ -254,7 +255,7 @@ fn a_picture_much_larger_than_the_reach_is_covered_in_proportion_and_warns() {
     );
     let warns = coverage_warnings(&rep);
     assert_eq!(warns.len(), 1);
-    let w = warns[0];
+    let w = &warns[0];
     assert_eq!(w.prop, "p");
     assert_eq!(w.unit, Some("%"));
     assert!((w.value.unwrap() - 100.0 * f).abs() < 1e-9);

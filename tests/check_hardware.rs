@@ -78,8 +78,16 @@ fn drift_of_a_ceramic_resonator_warns_and_a_crystal_does_not() {
     assert!(!kinds(&report(&show("clock_ppm = 150", 100, 60))).contains(&"drift"));
     let loose = report(&show("clock_ppm = 250", 100, 60));
     assert!(kinds(&loose).contains(&"drift"));
-    let w = loose.warnings.iter().find(|w| w.kind.name() == "drift").unwrap();
-    assert_eq!(w.limit, Some(20.0), "the limit is the performer's spread here");
+    let w = loose
+        .warnings
+        .iter()
+        .find(|w| w.kind.name() == "drift")
+        .unwrap();
+    assert_eq!(
+        w.limit,
+        Some(20.0),
+        "the limit is the performer's spread here"
+    );
 }
 
 #[test]

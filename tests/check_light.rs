@@ -66,7 +66,11 @@ fn report(text: &str) -> CheckReport {
 }
 
 fn count(r: &CheckReport, kind: WarningKind) -> usize {
-    r.warnings.iter().filter(|w| w.kind == kind).count()
+    r.warnings
+        .iter()
+        .filter(|w| w.kind == kind)
+        .map(|w| w.count)
+        .sum()
 }
 
 fn close(got: f64, want: f64, tol: f64, what: &str) {
@@ -99,7 +103,8 @@ fn white_strobe_two_per_second_passes_five_per_second_warns() {
         .warnings
         .iter()
         .filter(|w| w.kind == WarningKind::Flash)
-        .collect();
+        .flat_map(|w| w.instances())
+        .collect::<Vec<_>>();
     assert_eq!(w.len(), 1, "one stretch: {w:?}");
     assert_eq!(w[0].prop, "p");
     // The first change (white to black) is at beat 2, 0.1 s at 600 bpm.

@@ -192,3 +192,43 @@ fn compile_check_and_preview_agree_on_a_dimmed_mirrored_painted_show() {
     );
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn repeated_warnings_are_grouped_and_point_at_their_show_line() {
+    // The demo's stall line goes slack at every stall tip, bars 9-16: one
+    // warning per prop, with the count and each instance, located at the
+    // `[[section]]` that plays it.
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/salt-marsh-reel.toml");
+    let text = std::fs::read_to_string(&path).unwrap();
+    let out = bin()
+        .args(["check", path.to_str().unwrap(), "--json"])
+        .output()
+        .unwrap();
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let warnings = report["warnings"].as_array().unwrap();
+    let slack: Vec<_> = warnings.iter().filter(|w| w["kind"] == "slack").collect();
+    assert_eq!(slack.len(), 2, "one per prop: {slack:?}");
+    for w in &slack {
+        let count = w["count"].as_u64().unwrap();
+        assert!(count > 1, "{w}");
+        let each = w["each"].as_array().unwrap();
+        assert_eq!(each.len() as u64, count);
+        // The worst value is the lowest tension of the instances.
+        let worst = each
+            .iter()
+            .map(|i| i["value"].as_f64().unwrap())
+            .fold(f64::INFINITY, f64::min);
+        assert_eq!(w["value"].as_f64(), Some(worst));
+        let bars = w["bars"].as_array().unwrap();
+        assert!(bars[0].as_i64() < bars[1].as_i64(), "{bars:?}");
+        let line = w["line"].as_u64().unwrap() as usize;
+        let at = text.lines().nth(line - 1).unwrap();
+        assert!(at.trim().starts_with("[[section]]"), "line {line} is `{at}`");
+    }
+    for w in warnings {
+        assert!(
+            w["line"].as_u64().is_some(),
+            "every warning is located: {w}"
+        );
+    }
+}

@@ -171,6 +171,10 @@ pub fn scan(
         let landing_at_max = (v_max > 0.0).then(|| v_max * 0.5 / max_rate * 1000.0);
         let warn = |kind, message: String, value: f64, limit: f64, unit| Warning {
             kind,
+            count: 1,
+            bars: [0, 0],
+            line: None,
+            each: Vec::new(),
             prop: prop.name.clone(),
             other_prop: None,
             at: start,

@@ -254,6 +254,10 @@ impl LightTally {
                     let start = o.first as f64 / rate;
                     warnings.push(Warning {
                         kind: WarningKind::Current,
+                        count: 1,
+                        bars: [0, 0],
+                        line: None,
+            each: Vec::new(),
                         prop: prop.name.clone(),
                         other_prop: None,
                         at: when(start),
@@ -347,6 +351,10 @@ fn flash_warnings(
     for w in &report.windows {
         out.push(Warning {
             kind: WarningKind::Flash,
+            count: 1,
+            bars: [0, 0],
+            line: None,
+            each: Vec::new(),
             prop: name.to_string(),
             other_prop: None,
             at: when(w.start_s),

@@ -41,6 +41,7 @@ pub mod search;
 pub mod spin;
 pub mod tension;
 mod text;
+mod warnings;
 
 pub use report::{CheckReport, EndFigures, PairFigures, PropFigures, Warning, WarningKind, When};
 
@@ -371,6 +372,6 @@ pub(crate) fn report_of(
         errors: Vec::new(),
         cautions: report::CAUTIONS.to_vec(),
     };
-    report.finish();
+    report.finish(show);
     report
 }

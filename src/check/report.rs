@@ -141,6 +141,60 @@ pub struct Warning {
     pub unit: Option<&'static str>,
     /// A readable sentence.
     pub message: String,
+    /// How many times it happened in the stretch (repeats are grouped).
+    pub count: usize,
+    /// First and last bar of the stretch.
+    pub bars: [i64; 2],
+    /// The line of the show file behind it (the section, cue or prop).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub line: Option<usize>,
+    /// Each time it happened, when it happened more than once.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub each: Vec<Instance>,
+}
+
+/// One time a grouped warning happened.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct Instance {
+    /// Where it starts.
+    #[serde(flatten)]
+    pub at: When,
+    /// How long it lasts, seconds (none for an instant).
+    #[serde(serialize_with = "r9_opt", skip_serializing_if = "Option::is_none")]
+    pub duration_s: Option<f64>,
+    /// The figure at fault, in the warning's unit.
+    #[serde(serialize_with = "r9_opt", skip_serializing_if = "Option::is_none")]
+    pub value: Option<f64>,
+}
+
+impl Warning {
+    /// Every time it happened, each as a warning of its own (itself, when it
+    /// happened once).
+    pub fn instances(&self) -> Vec<Warning> {
+        if self.each.is_empty() {
+            return vec![self.clone()];
+        }
+        self.each
+            .iter()
+            .map(|i| Warning {
+                at: i.at,
+                duration_s: i.duration_s,
+                value: i.value,
+                count: 1,
+                bars: [i.at.bar, i.at.bar],
+                each: Vec::new(),
+                ..self.clone()
+            })
+            .collect()
+    }
+
+    pub(crate) fn instance(&self) -> Instance {
+        Instance {
+            at: self.at,
+            duration_s: self.duration_s,
+            value: self.value,
+        }
+    }
 }
 
 /// The physics figures of one prop over the whole show (bar 1 beat 1 to the
@@ -498,15 +552,16 @@ impl CheckReport {
         self.props.iter_mut().find(|p| p.name == name)
     }
 
-    /// Sorts the warnings by time, then kind, then prop (call after adding).
-    pub fn finish(&mut self) {
-        self.warnings.sort_by(|a, b| {
-            a.at.time_s
-                .total_cmp(&b.at.time_s)
-                .then(a.kind.cmp(&b.kind))
-                .then(a.prop.cmp(&b.prop))
-                .then(a.other_prop.cmp(&b.other_prop))
-        });
+    /// Groups repeated warnings, locates them in the show file and sorts
+    /// them by time, then kind, then prop (call after adding).
+    pub(crate) fn finish(&mut self, show: &Show) {
+        let mut raw = std::mem::take(&mut self.warnings);
+        for w in &mut raw {
+            if w.bars == [0, 0] {
+                w.bars = [w.at.bar, w.at.bar];
+            }
+        }
+        self.warnings = super::warnings::gather(show, raw);
     }
 
     /// Writes the report as pretty JSON and a newline.

@@ -50,9 +50,12 @@ impl CheckReport {
         }
         writeln!(out, "\nWarnings: {}", self.warnings.len())?;
         for w in &self.warnings {
+            let line = w
+                .line
+                .map_or_else(String::new, |l| format!(" (show line {l})"));
             writeln!(
                 out,
-                "  {:>10.3} s  bar {} beat {:.3}  {:<9}  {}",
+                "  {:>10.3} s  bar {} beat {:.3}  {:<9}  {}{line}",
                 w.at.time_s,
                 w.at.bar,
                 w.at.beat,
