@@ -223,7 +223,10 @@ fn repeated_warnings_are_grouped_and_point_at_their_show_line() {
         assert!(bars[0].as_i64() < bars[1].as_i64(), "{bars:?}");
         let line = w["line"].as_u64().unwrap() as usize;
         let at = text.lines().nth(line - 1).unwrap();
-        assert!(at.trim().starts_with("[[section]]"), "line {line} is `{at}`");
+        assert!(
+            at.trim().starts_with("[[section]]"),
+            "line {line} is `{at}`"
+        );
     }
     for w in warnings {
         assert!(

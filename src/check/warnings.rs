@@ -60,7 +60,7 @@ fn continues(g: &Warning, w: &Warning) -> bool {
         && g.prop == w.prop
         && g.other_prop == w.other_prop
         && g.unit == w.unit
-        && i64::from(w.at.bar) <= i64::from(g.bars[1]) + 1
+        && w.at.bar <= g.bars[1] + 1
 }
 
 /// Adds `w` to group `g`: the count, the bars, the time it lasts and the
