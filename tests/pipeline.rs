@@ -235,3 +235,51 @@ fn repeated_warnings_are_grouped_and_point_at_their_show_line() {
         );
     }
 }
+
+#[test]
+fn cautions_follow_the_show() {
+    // A staff and a strip bring cautions of their own: the staff's reach, and
+    // the strip's peak current (the figure the report gives).
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/night-ferry.toml");
+    let out = bin()
+        .args(["check", path.to_str().unwrap(), "--json"])
+        .output()
+        .unwrap();
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let cautions: Vec<&str> = report["cautions"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c.as_str().unwrap())
+        .collect();
+    let (name, prop) = report["props"].as_object().unwrap().iter().next().unwrap();
+    let amps = format!("{:.2} A", prop["peak_current_a"].as_f64().unwrap());
+    assert!(
+        cautions
+            .iter()
+            .any(|c| c.contains("is a staff") && c.starts_with(name.as_str())),
+        "{cautions:?}"
+    );
+    assert!(
+        cautions.iter().any(|c| c.contains(&amps)),
+        "{amps}: {cautions:?}"
+    );
+    // A poi show has no staff caution but names its peak tension.
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/moth-garden.toml");
+    let out = bin()
+        .args(["check", path.to_str().unwrap(), "--json"])
+        .output()
+        .unwrap();
+    let report: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let cautions = report["cautions"].as_array().unwrap();
+    assert!(
+        !cautions
+            .iter()
+            .any(|c| c.as_str().unwrap().contains("is a staff"))
+    );
+    assert!(
+        cautions
+            .iter()
+            .any(|c| c.as_str().unwrap().contains(" N: use tethers"))
+    );
+}

@@ -27,6 +27,7 @@
 //! the analytic derivative to 1e-12 beats; distances between props are
 //! refined by golden-section search to 1e-12 beats (see [`search`]).
 
+mod cautions;
 pub mod collision;
 pub mod coverage;
 pub mod hardware;
@@ -370,8 +371,9 @@ pub(crate) fn report_of(
         paintings,
         warnings,
         errors: Vec::new(),
-        cautions: report::CAUTIONS.to_vec(),
+        cautions: Vec::new(),
     };
     report.finish(show);
+    report.cautions = cautions::cautions(show, &report.props);
     report
 }

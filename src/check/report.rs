@@ -478,7 +478,7 @@ pub struct CheckReport {
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub errors: Vec<ErrorEntry>,
     /// The usual safety cautions, one sentence each.
-    pub cautions: Vec<&'static str>,
+    pub cautions: Vec<String>,
 }
 
 fn props_as_map<S: Serializer>(props: &[PropFigures], s: S) -> Result<S::Ok, S::Error> {
@@ -488,15 +488,6 @@ fn props_as_map<S: Serializer>(props: &[PropFigures], s: S) -> Result<S::Ok, S::
     }
     m.end()
 }
-
-/// The cautions that end every report.
-pub const CAUTIONS: [&str; 5] = [
-    "Keep clear space around spinning props (at least the rectangle above) and check the venue's rules on distances to the audience.",
-    "Warn audiences about flashing light beforehand, and avoid flashing between 3 and 60 times per second near the audience.",
-    "The flash counts apply the W3C WCAG 2.x general and red flash thresholds, which were written for screens; for props they are a conservative guide, not a certification.",
-    "Charge, carry and store lithium batteries as their maker says.",
-    "These figures come from a model: local codes, the venue and the LED and battery data sheets take precedence.",
-];
 
 impl CheckReport {
     /// The report of an invalid show: `valid = false` and its errors.
@@ -543,7 +534,7 @@ impl CheckReport {
             paintings: Vec::new(),
             warnings: Vec::new(),
             errors,
-            cautions: CAUTIONS.to_vec(),
+            cautions: Vec::new(),
         }
     }
 
