@@ -283,3 +283,89 @@ fn cautions_follow_the_show() {
             .any(|c| c.as_str().unwrap().contains(" N: use tethers"))
     );
 }
+
+/// A one-prop show with a tip cue over bars 1-4 and a beat cue over
+/// `later_bars` on the same prop.
+fn overlapping(later_bars: &str) -> String {
+    format!(
+        r#"
+[show]
+frame_rate = 500
+bpm = 120
+
+[prop.p]
+tether_m = 0.5
+anchor_m = [0.0, 1.5, 0.0]
+
+[pattern.flower]
+plane = "wall"
+beats = 4
+hand_radius_m = 0.15
+head_turns = -3
+
+[[section]]
+bars = [1, 4]
+p = "flower"
+
+[[cue]]
+prop = "p"
+bars = [1, 4]
+at = "tip"
+colours = ["red", "blue"]
+
+[[cue]]
+prop = "p"
+bars = {later_bars}
+at = "beat"
+colours = ["white", "black"]
+"#
+    )
+}
+
+#[test]
+fn a_cue_hidden_by_a_later_one_warns_and_counts_only_what_plays() {
+    let dir = folder("overlap");
+    let check = |text: &str| -> serde_json::Value {
+        let path = dir.join("overlap.toml");
+        std::fs::write(&path, text).unwrap();
+        let out = bin()
+            .args(["check", path.to_str().unwrap(), "--json"])
+            .output()
+            .unwrap();
+        serde_json::from_slice(&out.stdout).unwrap()
+    };
+    let text = overlapping("[3, 4]");
+    let r = check(&text);
+    let w: Vec<_> = r["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|w| w["kind"] == "overlap")
+        .collect();
+    assert_eq!(w.len(), 1, "{w:?}");
+    assert_eq!(w[0]["cue"], 0);
+    assert_eq!(w[0]["bar"], 3);
+    // Bars 3-4 of 1-4 at one tempo: half the frames.
+    assert!(
+        (w[0]["value"].as_f64().unwrap() - 50.0).abs() < 1e-9,
+        "{}",
+        w[0]
+    );
+    let line = w[0]["line"].as_u64().unwrap() as usize;
+    let first_cue = text.lines().position(|l| l == "[[cue]]").unwrap() + 1;
+    assert_eq!(line, first_cue);
+    // A four-petal flower has 4 tips a hand turn, a turn a bar: the tip cue
+    // changes at the tips of bars 1-2 only (7: its first instant is no
+    // change), where alone it would change at those of bars 1-4 (15).
+    assert_eq!(r["cues"][0]["changes"], 7, "{}", r["cues"][0]);
+    let alone = check(&overlapping("[5, 5]").replace("bars = [1, 4]\np = ", "bars = [1, 5]\np = "));
+    assert_eq!(alone["cues"][0]["changes"], 15, "{}", alone["cues"][0]);
+    assert!(
+        !alone["warnings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .any(|w| w["kind"] == "overlap")
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -227,6 +227,7 @@ pub fn scan_pair(
                 count: 1,
                 bars: [0, 0],
                 line: None,
+                cue: None,
             each: Vec::new(),
                 prop: na.clone(),
                 other_prop: Some(nb.clone()),

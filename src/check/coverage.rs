@@ -536,6 +536,7 @@ fn warning(
         count: 1,
         bars: [0, 0],
         line: None,
+        cue: None,
         each: Vec::new(),
         prop: name.clone(),
         other_prop: None,

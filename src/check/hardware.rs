@@ -174,6 +174,7 @@ pub fn scan(
             count: 1,
             bars: [0, 0],
             line: None,
+            cue: None,
             each: Vec::new(),
             prop: prop.name.clone(),
             other_prop: None,

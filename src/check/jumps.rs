@@ -111,6 +111,7 @@ pub fn jumps(show: &Show, motion: &PropMotion, limit_m: f64) -> Vec<Warning> {
                 count: 1,
                 bars: [0, 0],
                 line: None,
+                cue: None,
             each: Vec::new(),
                 prop: name.clone(),
                 other_prop: None,

@@ -129,6 +129,7 @@ pub fn scan(
                 count: 1,
                 bars: [0, 0],
                 line: None,
+                cue: None,
             each: Vec::new(),
                 prop: entry.prop.clone(),
                 other_prop: None,

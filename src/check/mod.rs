@@ -35,6 +35,7 @@ pub mod jumps;
 pub mod kin;
 pub mod landing;
 pub mod light;
+mod overlap;
 pub mod prop;
 pub mod reach;
 pub mod report;
@@ -348,8 +349,16 @@ pub(crate) fn report_of(
         }
     }
     warnings.extend(hardware_warnings);
+    // Only the changes that play count: a later cue may hide an earlier one.
+    let playing: Vec<_> = lights
+        .landings
+        .iter()
+        .filter(|l| lights.props[l.prop].plays(l.cue, l.frame))
+        .cloned()
+        .collect();
     let (cue_landings, landing_summary, landing_warnings) =
-        landing::scan(show, &lights.landings, settings.tolerance_mm);
+        landing::scan(show, &playing, settings.tolerance_mm);
+    warnings.extend(overlap::scan(show, lights));
     warnings.extend(landing_warnings);
     warnings.extend(coverage_warnings);
     let start = show.tempo.start_s();

@@ -43,6 +43,8 @@ pub enum WarningKind {
     Drift,
     /// A painting cue's LEDs pass too little of its picture.
     Coverage,
+    /// A later cue on the same prop hides some of a cue's frames.
+    Overlap,
 }
 
 impl WarningKind {
@@ -60,6 +62,7 @@ impl WarningKind {
             WarningKind::Memory => "memory",
             WarningKind::Drift => "drift",
             WarningKind::Coverage => "coverage",
+            WarningKind::Overlap => "overlap",
         }
     }
 }
@@ -148,6 +151,10 @@ pub struct Warning {
     /// The line of the show file behind it (the section, cue or prop).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub line: Option<usize>,
+    /// The cue it is about, index from 0 in file order, where it is one
+    /// cue's.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cue: Option<usize>,
     /// Each time it happened, when it happened more than once.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub each: Vec<Instance>,

@@ -60,6 +60,7 @@ fn continues(g: &Warning, w: &Warning) -> bool {
         && g.prop == w.prop
         && g.other_prop == w.other_prop
         && g.unit == w.unit
+        && g.cue == w.cue
         && w.at.bar <= g.bars[1] + 1
 }
 
@@ -110,6 +111,9 @@ fn short(x: f64) -> String {
 fn line_of(show: &Show, w: &Warning) -> Option<usize> {
     let prop = show.props.iter().position(|p| p.name == w.prop);
     let bar = w.at.bar.max(1) as u32;
+    if let Some(cue) = w.cue.and_then(|c| show.cues.get(c)) {
+        return Some(show.source.line_col(cue.offset).0);
+    }
     let offset = match w.kind {
         WarningKind::Refresh | WarningKind::Memory | WarningKind::Drift => {
             prop.map(|i| show.props[i].offset)
@@ -117,7 +121,8 @@ fn line_of(show: &Show, w: &Warning) -> Option<usize> {
         WarningKind::Flash
         | WarningKind::Current
         | WarningKind::Landing
-        | WarningKind::Coverage => prop
+        | WarningKind::Coverage
+        | WarningKind::Overlap => prop
             .and_then(|i| {
                 show.cues
                     .iter()
