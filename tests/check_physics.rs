@@ -558,7 +558,7 @@ fn refined_extremes_bound_a_dense_sampling_of_the_motion_model() {
         let st = m.state_at(&show.tempo, t0 + (t1 - t0) * i as f64 / n as f64);
         let q = st.head_m - st.hand_m;
         let u = q / q.norm();
-        let g = nalgebra::Vector3::new(0.0, -G0, 0.0);
+        let g = glowscore::geom::Vec3::new(0.0, -G0, 0.0);
         let t = -0.14 * (st.head_acc - g).dot(&u);
         tmin = tmin.min(t);
         tmax = tmax.max(t);

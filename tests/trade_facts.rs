@@ -89,7 +89,7 @@ fn hand_radius_equal_to_tether_with_m_minus_one_is_a_line_four_tethers_long() {
     let inner = count(&show, EventKind::Inner);
     assert_eq!(inner.len(), 2);
     for e in inner {
-        assert!((e.position_m - nalgebra::Vector3::new(0.0, 1.5, 0.0)).norm() < 1e-9);
+        assert!((e.position_m - glowscore::geom::Vec3::new(0.0, 1.5, 0.0)).norm() < 1e-9);
     }
 }
 

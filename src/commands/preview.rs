@@ -4,8 +4,8 @@ use std::io::{IsTerminal, Write};
 use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
 
+use crate::geom::Vec3;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
-use nalgebra::Vector3;
 
 use super::Failure;
 use crate::cues::place;
@@ -149,8 +149,8 @@ impl PreviewArgs {
             view: self.view,
             viewport: self.viewport,
             pinhole: self.camera.map(|e| Pinhole {
-                eye_m: Vector3::from(e),
-                look_at_m: self.look_at.map(Vector3::from),
+                eye_m: Vec3::from(e),
+                look_at_m: self.look_at.map(Vec3::from),
                 fov_deg: self.fov,
             }),
             shutter: Shutter {
