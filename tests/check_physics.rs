@@ -353,7 +353,7 @@ fn heads_passing_at_a_known_distance_collide_only_if_larger() {
 
 #[test]
 fn props_that_never_move_together_are_not_compared() {
-    // The brief: collisions only while both props move.
+    // docs/conventions.md, "Check JSON": collisions only while both props move.
     let text = pair(0.5, "").replace("b = { pattern = \"circle\", mirror = true }", "");
     let rep = report(&text);
     assert_eq!(rep.pairs[0].min_head_distance_m, None);

@@ -380,7 +380,7 @@ colours = ["white"]
             // Clock angle t: x = a sin t (right), y = a cos t (up), wall plane.
             let t = std::f64::consts::TAU * f64::from(k) / f64::from(n);
             let (x, y) = (a * glowscore::num::sin(t), 1.5 + a * glowscore::num::cos(t));
-            // Contract: column i covers x = X0 + (i + 0.5)(X1 - X0)/W.
+            // docs/conventions.md, "Viewport": column i covers x = X0 + (i + 0.5)(X1 - X0)/W.
             let i = (x - view[0]) / (view[2] - view[0]) * f64::from(w) - 0.5;
             let j = (view[3] - y) / (view[3] - view[1]) * f64::from(h) - 0.5;
             (i, j)

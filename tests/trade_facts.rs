@@ -136,7 +136,7 @@ fn tempo_change_moves_every_later_beat_by_the_exact_amount() {
 
 #[test]
 fn mirrored_placements_read_clock_angles_on_the_mirrored_clock() {
-    // Contract: mirror reverses the sense of the plane's clock (right -> -right),
+    // docs/conventions.md, "Motion": mirror reverses the plane's clock (right -> -right),
     // and angle events of that placement are read on the mirrored clock.
     let text = |mirror: bool| {
         format!(

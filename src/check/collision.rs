@@ -10,7 +10,7 @@
 //! distances are sampled on the beat axis (64 samples per turn of the
 //! fastest term, doubled for relative motion) and every sampled minimum is
 //! refined by golden-section search to 1e-12 beats. Props at rest are not
-//! checked (the brief: only while both move).
+//! checked (`docs/conventions.md`, "Check JSON": only while both move).
 
 use crate::geom::Vec3;
 

@@ -11,7 +11,7 @@ use crate::model::Show;
 use crate::motion::simulate;
 use crate::num::round_to;
 
-/// One event as the contract's JSON gives it.
+/// One event as `docs/conventions.md` ("Event JSON") gives it.
 #[derive(Serialize)]
 pub struct EventJson<'a> {
     /// Prop name.

@@ -2,7 +2,7 @@
 //! millimetre of stage looks there.
 //!
 //! Orthographic views look straight at the stage from one side and map a
-//! viewport (metres) onto the pixels exactly as the contract gives it:
+//! viewport (metres) onto the pixels exactly as `docs/conventions.md` ("Viewport") gives it:
 //! pixel column i, row j (row 0 at the top) covers the screen point
 //! `u = X0 + (i + 0.5)(X1 - X0)/W`, `v = Y1 - (j + 0.5)(Y1 - Y0)/H`.
 //! The perspective camera is a pinhole at an eye point looking at a target,
@@ -268,8 +268,8 @@ mod tests {
     use crate::model::Plane;
 
     #[test]
-    fn ortho_maps_pixel_centres_as_the_contract_gives() {
-        // Contract: column i covers x = X0 + (i + 0.5)(X1 - X0)/W.
+    fn ortho_maps_pixel_centres_as_the_conventions_give() {
+        // docs/conventions.md, "Viewport": column i covers x = X0 + (i + 0.5)(X1 - X0)/W.
         let cam = Camera::ortho(View::Front, [-1.8, 0.4, 1.8, 2.4], 360, 200);
         let (i, j) = (17.0, 150.0);
         let x = -1.8 + (i + 0.5) * 3.6 / 360.0;
@@ -280,7 +280,7 @@ mod tests {
 
     #[test]
     fn each_view_shows_its_planes_clock_running_clockwise() {
-        // Contract: a clock angle of 90 degrees lies along the plane's `right`
+        // docs/conventions.md, "Planes and clock angles": 90 degrees lies along `right`
         // and 0 along its `up`; seen from the front (wall), the audience's
         // left (wheel) and above (floor), 3 o'clock is on the right and
         // 12 o'clock at the top.
