@@ -22,5 +22,7 @@ pub mod motion;
 pub mod num;
 pub mod output;
 pub mod picture;
+pub mod power;
+pub mod prepared;
 pub mod preview;
 pub mod show;

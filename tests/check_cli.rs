@@ -88,10 +88,14 @@ fn warnings_exit_0_unless_denied() {
     let t = String::from_utf8(text.stdout).unwrap();
     for needle in [
         "Cautions",
-        "between 3 and 60",
-        "lithium",
+        "between about 3 and 60",
+        "photosensitive epilepsy",
+        "Lithium batteries burn",
+        "get hot",
         "data sheets",
         "clear space",
+        "this project's own choice",
+        "rated well above",
     ] {
         assert!(t.contains(needle), "{needle} missing from:\n{t}");
     }

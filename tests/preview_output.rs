@@ -13,10 +13,8 @@ mod common;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-use glowscore::cues::place;
-use glowscore::events::find_events;
 use glowscore::geom::Vec3;
-use glowscore::motion::simulate;
+use glowscore::prepared::Prepared;
 use glowscore::preview::tone::{encode_srgb8, shoulder};
 use glowscore::preview::{self, Pinhole, PreviewOptions, Shutter, View};
 use image::{Rgb, RgbImage};
@@ -193,11 +191,8 @@ fn check_golden(name: &str, img: &RgbImage) {
 }
 
 fn render(opts: &PreviewOptions) -> RgbImage {
-    let show = common::show(FLOWER);
-    let motions = simulate(&show);
-    let events = find_events(&show, &motions);
-    let lights = place(&show, &motions, &events);
-    preview::render(&show, &motions, &lights, opts).expect("renders")
+    let prepared = Prepared::new(common::show(FLOWER)).unwrap();
+    preview::render(&prepared, opts).expect("renders")
 }
 
 fn small(view: View, bars: (u32, u32)) -> PreviewOptions {
@@ -357,17 +352,14 @@ fn cli_usage_errors_exit_2_and_failures_leave_the_old_picture() {
 
 #[test]
 fn previews_for_compile_one_per_section_and_one_of_the_show() {
-    let show = common::show(FLOWER);
-    let motions = simulate(&show);
-    let events = find_events(&show, &motions);
-    let lights = place(&show, &motions, &events);
+    let prepared = Prepared::new(common::show(FLOWER)).unwrap();
     let dir = tmp("compile");
     std::fs::create_dir_all(&dir).unwrap();
     let opts = PreviewOptions {
         size: Some((120, 90)),
         ..PreviewOptions::default()
     };
-    let files = preview::write_previews(&show, &motions, &lights, &dir, &opts).unwrap();
+    let files = preview::write_previews(&prepared, &dir, &opts).unwrap();
     let names: Vec<String> = files
         .iter()
         .map(|f| f.file_name().unwrap().to_string_lossy().into_owned())

@@ -581,12 +581,12 @@ fn default_strip_glow_draws_a_lit_strip_as_an_even_band() {
 #[test]
 fn oversized_exposures_are_refused_before_the_work() {
     let big = "tether_m = 0.6\nstrip = { leds = 4000, from_m = 0.1, to_m = 0.58 }";
-    let text = show_text(big, ISOLATION, WHITE).replace("bars = [1, 2]", "bars = [1, 100]");
+    // 50 bars at 60 bpm and 1000 frames/s of 4000 LEDs: 8e8 LED-frames,
+    // fewer than a prepared show may have, more than the renderer walks.
+    let text = show_text(big, ISOLATION, WHITE).replace("bars = [1, 2]", "bars = [1, 50]");
     let s = setup(&text);
     let err = preview::shoot(
-        &s.show,
-        &s.motions,
-        &s.lights,
+        &s.prepared,
         &ortho([-1.0, 0.5, 1.0, 2.5], 100.0),
         &|_, _| {},
     )
@@ -605,8 +605,7 @@ fn oversized_exposures_are_refused_before_the_work() {
         viewport: Some([-0.5, 1.0, 0.5, 1.0625]),
         ..PreviewOptions::default()
     };
-    let err = preview::shoot(&s.show, &s.motions, &s.lights, &opts, &|_, _| {})
-        .expect_err("too many points");
+    let err = preview::shoot(&s.prepared, &opts, &|_, _| {}).expect_err("too many points");
     assert!(
         matches!(&err, PreviewError::TooLarge(m) if m.contains("points of light")),
         "{err}"
@@ -633,7 +632,7 @@ fn strip_painting_does_not_depend_on_the_thread_count() {
             .num_threads(n)
             .build()
             .unwrap()
-            .install(|| preview::render(&s.show, &s.motions, &s.lights, &opts).unwrap())
+            .install(|| preview::render(&s.prepared, &opts).unwrap())
     };
     let (a, b) = (on(1), on(3));
     assert_eq!(a.as_raw(), b.as_raw());

@@ -572,7 +572,7 @@ fn picture_does_not_depend_on_the_thread_count() {
             .num_threads(n)
             .build()
             .unwrap()
-            .install(|| preview::render(&s.show, &s.motions, &s.lights, &opts).unwrap())
+            .install(|| preview::render(&s.prepared, &opts).unwrap())
     };
     let (a, b) = (on(1), on(3));
     assert_eq!(a.as_raw(), b.as_raw());

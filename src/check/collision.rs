@@ -219,6 +219,10 @@ pub fn scan_pair(
             };
             Warning {
                 kind: WarningKind::Collision,
+                count: 1,
+                bars: [0, 0],
+                line: None,
+            each: Vec::new(),
                 prop: na.clone(),
                 other_prop: Some(nb.clone()),
                 at: When::at_beat(show, s.start),

@@ -103,6 +103,10 @@ pub fn jumps(show: &Show, motion: &PropMotion, limit_m: f64) -> Vec<Warning> {
             }
             out.push(Warning {
                 kind: WarningKind::Jump,
+                count: 1,
+                bars: [0, 0],
+                line: None,
+            each: Vec::new(),
                 prop: name.clone(),
                 other_prop: None,
                 at,

@@ -172,6 +172,10 @@ pub fn scan_prop(
         let (t, at) = s.figure;
         warnings.push(Warning {
             kind: WarningKind::Slack,
+            count: 1,
+            bars: [0, 0],
+            line: None,
+            each: Vec::new(),
             prop: name.clone(),
             other_prop: None,
             at: When::at_beat(show, s.start),
@@ -192,6 +196,10 @@ pub fn scan_prop(
             let dur = seconds(s.start, s.end);
             warnings.push(Warning {
                 kind: WarningKind::SpinRate,
+                count: 1,
+                bars: [0, 0],
+                line: None,
+            each: Vec::new(),
                 prop: name.clone(),
                 other_prop: None,
                 at: When::at_beat(show, s.start),

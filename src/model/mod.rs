@@ -131,6 +131,8 @@ impl LedSpot {
 pub struct Prop {
     /// Its name, the key of its `[prop.NAME]` table.
     pub name: String,
+    /// Where its table starts in the show file, bytes (to locate warnings).
+    pub offset: usize,
     /// Poi or staff.
     pub kind: PropKind,
     /// Grip (handle) to the head end's centre, metres: the poi's tether, or
@@ -314,6 +316,8 @@ pub struct Placement {
 /// A run of bars in which each prop plays one pattern (or rests).
 #[derive(Clone, Debug)]
 pub struct Section {
+    /// Where its table starts in the show file, bytes (to locate warnings).
+    pub offset: usize,
     /// First bar, inclusive, from 1.
     pub first_bar: u32,
     /// Last bar, inclusive.
@@ -425,6 +429,8 @@ pub enum Look {
 /// A colour cue on one prop over a range of bars.
 #[derive(Clone, Debug)]
 pub struct Cue {
+    /// Where its table starts in the show file, bytes (to locate warnings).
+    pub offset: usize,
     /// Index into [`Show::props`].
     pub prop: usize,
     /// First bar, inclusive.

@@ -421,7 +421,7 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
             at: (span.start, span.end),
         };
         ctx.check_keys(t, PROP_KEYS);
-        check_name(ctx, &path, &name, span);
+        check_name(ctx, &path, &name, span.clone());
         let kind = match ctx.string(t, "kind", false) {
             None => Some(PropKind::Poi),
             Some((k, _)) if k == "poi" => Some(PropKind::Poi),
@@ -532,6 +532,7 @@ fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
             kind, tether, tail, anchor, leds, strips, wire_order, led_driver,
         ) {
             out.push(Prop {
+                offset: span.start,
                 name,
                 kind,
                 tether_m,
@@ -943,6 +944,7 @@ fn sections(
         if let Some((first_bar, last_bar, bspan)) = bars {
             out.push((
                 Section {
+                    offset: span.start,
                     first_bar,
                     last_bar,
                     placements,
@@ -1058,6 +1060,7 @@ fn cues(ctx: &mut Ctx, root: Tbl<'_, '_>, props: &[Prop], names: &Declared) -> V
         };
         if let (Some(prop), Some((first_bar, last_bar, _)), Some(look)) = (prop, bars, look) {
             out.push(Cue {
+                offset: span.start,
                 prop,
                 first_bar,
                 last_bar,
