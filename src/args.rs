@@ -4,9 +4,9 @@
 use std::path::PathBuf;
 
 use clap::{Args, Parser, Subcommand};
+use glowscore::geom::Vec3;
 use glowscore::output::TableForm;
 use glowscore::preview::{self, Pinhole, PreviewOptions, Shutter, View};
-use nalgebra::Vector3;
 
 /// Compiles light shows for LED props (poi, staffs and pixel strips) into
 /// frame tables, long-exposure previews and safety checks.
@@ -217,8 +217,8 @@ impl PreviewArgs {
             view: self.view,
             viewport: self.viewport,
             pinhole: self.camera.map(|e| Pinhole {
-                eye_m: Vector3::from(e),
-                look_at_m: self.look_at.map(Vector3::from),
+                eye_m: Vec3::from(e),
+                look_at_m: self.look_at.map(Vec3::from),
                 fov_deg: self.fov,
             }),
             shutter: Shutter {

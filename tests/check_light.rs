@@ -471,8 +471,8 @@ fn bad_light_keys_are_errors_with_the_key_path() {
 #[test]
 fn check_command_json_lists_flash_warnings() {
     // W3C WCAG 2.x: 5 flashes a second is over the limit; the warning is in
-    // the contract's warning list with kind "flash", and the run still
-    // succeeds (exit 0: warnings allowed).
+    // the warning list (docs/conventions.md, "Check JSON") with kind "flash",
+    // and the run still succeeds (exit 0: warnings allowed).
     let dir = std::env::temp_dir().join(format!("glowscore-light-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let path = dir.join("strobe.toml");

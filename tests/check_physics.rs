@@ -364,7 +364,7 @@ fn heads_passing_at_a_known_distance_collide_only_if_larger() {
 
 #[test]
 fn props_that_never_move_together_are_not_compared() {
-    // The brief: collisions only while both props move.
+    // docs/conventions.md, "Check JSON": collisions only while both props move.
     let text = pair(0.5, "").replace("b = { pattern = \"circle\", mirror = true }", "");
     let rep = report(&text);
     assert_eq!(rep.pairs[0].min_head_distance_m, None);
@@ -569,7 +569,7 @@ fn refined_extremes_bound_a_dense_sampling_of_the_motion_model() {
         let st = m.state_at(&show.tempo, t0 + (t1 - t0) * i as f64 / n as f64);
         let q = st.head_m - st.hand_m;
         let u = q / q.norm();
-        let g = nalgebra::Vector3::new(0.0, -G0, 0.0);
+        let g = glowscore::geom::Vec3::new(0.0, -G0, 0.0);
         let t = -0.14 * (st.head_acc - g).dot(&u);
         tmin = tmin.min(t);
         tmax = tmax.max(t);

@@ -240,7 +240,7 @@ fn repeated_warnings_are_grouped_and_point_at_their_show_line() {
 fn cautions_follow_the_show() {
     // A staff and a strip bring cautions of their own: the staff's reach, and
     // the strip's peak current (the figure the report gives).
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/night-ferry.toml");
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/eelgrass-lanterns.toml");
     let out = bin()
         .args(["check", path.to_str().unwrap(), "--json"])
         .output()

@@ -13,11 +13,11 @@ mod common;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
+use glowscore::geom::Vec3;
 use glowscore::prepared::Prepared;
 use glowscore::preview::tone::{encode_srgb8, shoulder};
 use glowscore::preview::{self, Pinhole, PreviewOptions, Shutter, View};
 use image::{Rgb, RgbImage};
-use nalgebra::Vector3;
 
 /// IEC 61966-2-1 (sRGB) encoding, written out from the standard: V = 12.92 L
 /// for L <= 0.0031308, else 1.055 L^(1/2.4) - 0.055.
@@ -229,7 +229,7 @@ fn golden_whole_show_from_a_seat() {
     let o = PreviewOptions {
         size: Some((160, 120)),
         pinhole: Some(Pinhole {
-            eye_m: Vector3::new(2.5, 1.7, 5.0),
+            eye_m: Vec3::new(2.5, 1.7, 5.0),
             look_at_m: None,
             fov_deg: 35.0,
         }),

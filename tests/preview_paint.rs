@@ -133,7 +133,7 @@ fn image_cue(path: &Path, side_m: f64, centre: [f64; 2], rotation_deg: f64) -> S
 }
 
 /// The stage point (x, y) at the centre of pixel (i, j) of an orthographic
-/// front view (the outside contract: x = X0 + (i + 0.5)(X1 - X0)/W,
+/// front view (docs/conventions.md, "Viewport": x = X0 + (i + 0.5)(X1 - X0)/W,
 /// y = Y1 - (j + 0.5)(Y1 - Y0)/H).
 fn stage_xy(opts: &PreviewOptions, film: &Film, i: u32, j: u32) -> [f64; 2] {
     let v = opts.viewport.expect("a fixed viewport");
@@ -357,7 +357,7 @@ fn antispin_flower_keeps_a_painted_disc_where_it_was_placed() {
     assert!(off < 0.002, "centroid {c:?} is {off} m from {placed:?}");
 }
 
-/// Clock angle (degrees clockwise from straight up, as the contract reads
+/// Clock angle (degrees clockwise from straight up, as docs/conventions.md reads
 /// angles in the wall plane seen from the front) of the way from `a` to `b`.
 fn clock_deg(a: [f64; 2], b: [f64; 2]) -> f64 {
     glowscore::num::atan2(b[0] - a[0], b[1] - a[1]).to_degrees()

@@ -10,7 +10,7 @@ use crate::events::Event;
 use crate::model::Show;
 use crate::num::round_to;
 
-/// One event as the contract's JSON gives it.
+/// One event as `docs/conventions.md` ("Event JSON") gives it.
 #[derive(Serialize)]
 pub struct EventJson<'a> {
     /// Prop name.

@@ -6,7 +6,7 @@
 
 use std::sync::Arc;
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 
 use crate::diag::Source;
 mod tempo;
@@ -141,7 +141,7 @@ pub struct Prop {
     /// Grip to the tail end, metres: the staff's other half (0 for a poi).
     pub tail_m: f64,
     /// Centre of the hand's path, stage coordinates, metres.
-    pub anchor_m: Vector3<f64>,
+    pub anchor_m: Vec3,
     /// Number of LEDs on the prop, all strips together.
     pub leds: u32,
     /// The LEDs, strip by strip in table order (never empty). A poi without
@@ -247,18 +247,18 @@ pub enum Plane {
 
 impl Plane {
     /// Unit vector of clock angle 0 (12 o'clock), stage coordinates.
-    pub fn up(self) -> Vector3<f64> {
+    pub fn up(self) -> Vec3 {
         match self {
-            Plane::Wall | Plane::Wheel => Vector3::new(0.0, 1.0, 0.0),
-            Plane::Floor => Vector3::new(0.0, 0.0, -1.0),
+            Plane::Wall | Plane::Wheel => Vec3::new(0.0, 1.0, 0.0),
+            Plane::Floor => Vec3::new(0.0, 0.0, -1.0),
         }
     }
 
     /// Unit vector of clock angle 90 (3 o'clock), stage coordinates.
-    pub fn right(self) -> Vector3<f64> {
+    pub fn right(self) -> Vec3 {
         match self {
-            Plane::Wall | Plane::Floor => Vector3::new(1.0, 0.0, 0.0),
-            Plane::Wheel => Vector3::new(0.0, 0.0, 1.0),
+            Plane::Wall | Plane::Floor => Vec3::new(1.0, 0.0, 0.0),
+            Plane::Wheel => Vec3::new(0.0, 0.0, 1.0),
         }
     }
 

@@ -32,8 +32,8 @@ pub mod trail;
 
 use std::path::{Path, PathBuf};
 
+use crate::geom::Vec3;
 use image::RgbImage;
-use nalgebra::Vector3;
 use rayon::prelude::*;
 
 pub use camera::{Camera, Pinhole, View};
@@ -243,7 +243,7 @@ struct Cloud {
     view: View,
     lo: [f64; 2],
     hi: [f64; 2],
-    sum: Vector3<f64>,
+    sum: Vec3,
     n: usize,
 }
 
@@ -253,12 +253,12 @@ impl Cloud {
             view,
             lo: [0.0; 2],
             hi: [0.0; 2],
-            sum: Vector3::zeros(),
+            sum: Vec3::zeros(),
             n: 0,
         }
     }
 
-    fn add(&mut self, p: &Vector3<f64>) {
+    fn add(&mut self, p: &Vec3) {
         let q = self.view.screen(p);
         if self.n == 0 {
             (self.lo, self.hi) = (q, q);
@@ -276,7 +276,7 @@ impl Cloud {
     }
 
     /// The mean position (the origin when empty).
-    fn centre(&self) -> Vector3<f64> {
+    fn centre(&self) -> Vec3 {
         self.sum / self.n.max(1) as f64
     }
 }
@@ -314,7 +314,7 @@ fn scout_points(
     motions: &[PropMotion],
     lights: &Lights,
     (t0, t1): (f64, f64),
-    f: &mut dyn FnMut(&Vector3<f64>),
+    f: &mut dyn FnMut(&Vec3),
 ) -> Result<(), PreviewError> {
     trail::for_each_chunk(
         show,
@@ -368,13 +368,13 @@ fn make_camera(
         check_size(w, h)?;
         let target = ph
             .look_at_m
-            .unwrap_or_else(|| cloud.map_or_else(Vector3::zeros, Cloud::centre));
+            .unwrap_or_else(|| cloud.map_or_else(Vec3::zeros, Cloud::centre));
         return Camera::pinhole(ph.eye_m, target, ph.fov_deg, w, h).ok_or_else(|| {
             PreviewError::Options(format!(
                 "the camera at {:?} cannot look at {:?} with a field of view of {} degrees \
                  (the eye must not be at the target; the field of view is between 0 and 180)",
-                ph.eye_m.as_slice(),
-                target.as_slice(),
+                ph.eye_m.to_array(),
+                target.to_array(),
                 ph.fov_deg
             ))
         });

@@ -10,7 +10,7 @@ pub mod reader;
 use std::path::Path;
 use std::sync::Arc;
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 use toml::de::{DeTable, DeValue};
 
 use crate::diag::{Diagnostic, Diagnostics, Source, did_you_mean};
@@ -729,14 +729,14 @@ fn check_name(ctx: &mut Ctx, path: &str, name: &str, span: std::ops::Range<usize
     }
 }
 
-fn vector3(ctx: &mut Ctx, t: Tbl<'_, '_>, key: &str) -> Option<Vector3<f64>> {
+fn vector3(ctx: &mut Ctx, t: Tbl<'_, '_>, key: &str) -> Option<Vec3> {
     let (arr, span) = ctx.array(t, key, true)?;
     let nums: Vec<Option<f64>> = arr.iter().map(|v| reader::as_number(v.get_ref())).collect();
     match nums.as_slice() {
         [Some(x), Some(y), Some(z)]
             if [x, y, z].iter().all(|v| v.is_finite() && v.abs() <= 1000.0) =>
         {
-            Some(Vector3::new(*x, *y, *z))
+            Some(Vec3::new(*x, *y, *z))
         }
         _ => {
             ctx.error_help(
