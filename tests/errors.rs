@@ -1,15 +1,20 @@
 //! Bad show files in `tests/bad/`, each carrying its expected errors as
-//! comments: `# error: LINE:COL KEY: MESSAGE [| HELP]`. Every error the
-//! file produces must be expected, and every expected error must appear.
+//! comments: `# error: LINE:COL KEY: MESSAGE [| HELP]` (and warnings as
+//! `# warning: ...`). Every error and warning the file produces must be
+//! expected, and every expected one must appear.
 
 use std::path::Path;
 
-use glowscore::diag::Diagnostic;
+use glowscore::diag::{Diagnostic, Severity};
 
 fn render(d: &Diagnostic) -> (String, String) {
     let (_, line, col) = d.location().unwrap_or_default();
+    let label = match d.severity {
+        Severity::Error => "error",
+        Severity::Warning => "warning",
+    };
     let head = format!(
-        "{line}:{col} {}: {}",
+        "{label}: {line}:{col} {}: {}",
         d.key.clone().unwrap_or_default(),
         d.message
     );
@@ -20,7 +25,8 @@ fn check_file(path: &Path) {
     let text = std::fs::read_to_string(path).unwrap();
     let expected: Vec<(String, Option<String>)> = text
         .lines()
-        .filter_map(|l| l.strip_prefix("# error: "))
+        .filter_map(|l| l.strip_prefix("# "))
+        .filter(|l| l.starts_with("error: ") || l.starts_with("warning: "))
         .map(|e| match e.split_once(" | ") {
             Some((head, help)) => (head.to_string(), Some(help.to_string())),
             None => (e.to_string(), None),
@@ -75,7 +81,7 @@ fn diagnostics_render_file_line_column_and_a_caret() {
         .unwrap_err();
     let text = err.to_string();
     assert!(
-        text.contains("show.toml:3:7: error in `show.bpm`: must be greater than 0"),
+        text.contains("show.toml:3:7: error in `show.bpm`: must be between 1 and 1000, got -1"),
         "{text}"
     );
     assert!(text.contains("3 | bpm = -1\n  |       ^^"), "{text}");
