@@ -251,7 +251,7 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
         source: ctx.src.clone(),
         notes: Vec::new(),
     };
-    check_work(ctx, &show);
+    check_work(ctx, root, &show);
     Some(show)
 }
 
@@ -261,11 +261,14 @@ pub const MAX_RELATIVE_TURNS: f64 = 2.0e6;
 
 /// Refuses a show whose motion is too long or too fast to search for
 /// events in reasonable time (a sane show has a few thousand turns).
-fn check_work(ctx: &mut Ctx, show: &Show) {
+fn check_work(ctx: &mut Ctx, root: Tbl<'_, '_>, show: &Show) {
     let bpb = f64::from(show.tempo.beats_per_bar());
     let mut turns = 0.0;
+    // The section asking for the most, to point at: (turns, bars).
+    let mut most = (0.0, (0, 0));
     for sec in &show.sections {
         let beats = f64::from(sec.last_bar - sec.first_bar + 1) * bpb;
+        let mut here = 0.0;
         for pl in sec.placements.iter().flatten() {
             let pat = &show.patterns[pl.pattern];
             let rates: Vec<f64> = pat
@@ -278,20 +281,46 @@ fn check_work(ctx: &mut Ctx, show: &Show) {
                 .iter()
                 .flat_map(|a| rates.iter().map(move |b| (a - b).abs().max(a.abs())))
                 .fold(1.0, f64::max);
-            turns += beats / pat.beats * finest;
+            here += beats / pat.beats * finest;
+        }
+        turns += here;
+        if here > most.0 {
+            most = (here, (sec.first_bar, sec.last_bar));
         }
     }
-    if turns > MAX_RELATIVE_TURNS {
-        ctx.diags.push(
-            Diagnostic::error(format!(
-                "the show asks for {turns:.0} turns of spin in all, more than the {MAX_RELATIVE_TURNS:.0} glowscore \
-                 simulates (a long show is a few thousand)"
-            ))
-            .key("section")
-            .at(&ctx.src, 0..0)
-            .help("check the sections' bars and the patterns' `beats` and turns"),
-        );
+    if turns <= MAX_RELATIVE_TURNS {
+        return;
     }
+    let (first, last) = most.1;
+    // Where that section's `bars` is written.
+    let written = match root.get("section").map(|v| v.get_ref()) {
+        Some(DeValue::Array(a)) => a.iter().enumerate().find_map(|(i, v)| {
+            let DeValue::Table(t) = v.get_ref() else {
+                return None;
+            };
+            let bars = t.get("bars")?;
+            let DeValue::Array(b) = bars.get_ref() else {
+                return None;
+            };
+            let n: Vec<Option<f64>> = b.iter().map(|x| reader::as_number(x.get_ref())).collect();
+            (n == [Some(f64::from(first)), Some(f64::from(last))])
+                .then(|| (format!("section[{i}].bars"), bars.span()))
+        }),
+        _ => None,
+    };
+    let (key, span) = written.unwrap_or_else(|| ("section".into(), 0..0));
+    ctx.diags.push(
+        Diagnostic::error(format!(
+            "the show asks for {} turns of spin in all, more than the {} glowscore simulates \
+             (a long show is a few thousand); bars {first}-{last} alone ask for {}",
+            reader::short(turns.round()),
+            reader::short(MAX_RELATIVE_TURNS),
+            reader::short(most.0.round()),
+        ))
+        .key(key)
+        .at(&ctx.src, span)
+        .help("check the sections' bars and the patterns' `beats` and turns"),
+    );
 }
 
 /// The prop and pattern names declared in the file.

@@ -7,7 +7,7 @@ use nalgebra::Vector3;
 use toml::de::{DeTable, DeValue};
 
 use super::keys::*;
-use super::reader::{Ctx, Tbl, describe};
+use super::reader::{Ctx, Tbl, describe, short};
 use super::{
     DEFAULT_CHANNEL_CURRENT_A, DEFAULT_CLOCK_PPM, DEFAULT_DRIVER_CLOCK_HZ, DEFAULT_HEAD_RADIUS_M,
     DEFAULT_IDLE_CURRENT_A, MAX_LEDS, MAX_PROPS, MAX_STRIPS, named_tables, tables_in,
@@ -300,7 +300,11 @@ fn leds_and_strips(
             ctx.error_help(
                 &st.key_path("to_m"),
                 tb.get("to_m").map_or(span.clone(), |x| x.span()),
-                format!("the strip ends at {to} m, nearer the grip than its start at {from} m"),
+                format!(
+                    "the strip ends at {} m, nearer the grip than its start at {} m",
+                    short(to),
+                    short(from)
+                ),
                 "LED 0 is the one nearest the grip: `from_m` is its distance, `to_m` the far LED's",
             );
             ok = false;
@@ -315,7 +319,11 @@ fn leds_and_strips(
                 ctx.error_help(
                     &st.key_path("to_m"),
                     tb.get("to_m").map_or(span.clone(), |x| x.span()),
-                    format!("the strip reaches {to} m from the grip, beyond the prop's end at {length} m"),
+                    format!(
+                        "the strip reaches {} m from the grip, beyond the prop's end at {} m",
+                        short(to),
+                        short(length)
+                    ),
                     format!("`to_m` is at most `{what}`"),
                 );
                 ok = false;
