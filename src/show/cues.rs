@@ -22,6 +22,7 @@ pub(super) fn cues(
     last_bar: Option<u32>,
 ) -> Vec<Cue> {
     let prop_names: Vec<&str> = names.props.iter().map(String::as_str).collect();
+    let declared_props: std::collections::HashSet<&str> = prop_names.iter().copied().collect();
     let mut out = Vec::new();
     let mut pictures = Pictures::new();
     for (path, table, span) in table_array(ctx, root, "cue") {
@@ -33,7 +34,7 @@ pub(super) fn cues(
         ctx.check_keys(t, CUE_KEYS);
         let prop = ctx.string(t, "prop", true).and_then(|(name, sp)| {
             let i = props.iter().position(|p| p.name == name);
-            if i.is_none() && !names.props.contains(&name) {
+            if i.is_none() && !declared_props.contains(name.as_str()) {
                 ctx.unknown_name(&t.key_path("prop"), sp, "prop", &name, &prop_names);
             }
             i

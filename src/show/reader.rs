@@ -574,3 +574,93 @@ pub fn list(names: &[&str]) -> String {
     let quoted: Vec<String> = names.iter().map(|n| format!("`{n}`")).collect();
     quoted.join(", ")
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn bounds_take_their_ends_as_written() {
+        let b = Bounds::at_least(1.0).at_most(1000.0);
+        assert!(b.contains(1.0) && b.contains(1000.0));
+        assert!(!b.contains(0.999) && !b.contains(1000.001) && !b.contains(f64::NAN));
+        assert_eq!(b.describe(), "between 1 and 1000");
+        let open = Bounds::above(0.0).at_most(10.0);
+        assert!(!open.contains(0.0) && open.contains(f64::MIN_POSITIVE));
+        assert_eq!(open.describe(), "greater than 0 and at most 10");
+        let off = Bounds::at_least(1.0).at_most(1e6).or_zero();
+        assert!(off.contains(0.0) && off.contains(-0.0) && !off.contains(0.5));
+        assert_eq!(off.describe(), "0 or between 1 and 1000000");
+        assert_eq!(Bounds::within(64.0).describe(), "between -64 and 64");
+        assert_eq!(Bounds::at_least(0.001).describe(), "at least 0.001");
+        assert!(!Bounds::at_least(0.0).contains(f64::INFINITY));
+    }
+
+    #[test]
+    fn numbers_in_messages_are_short() {
+        // 5e-324 is the smallest positive subnormal double (IEEE 754-2008,
+        // binary64: 2^-1074, about 4.94e-324).
+        assert_eq!(short(5e-324), "4.940656e-324");
+        assert_eq!(short(1e-300), "1e-300");
+        assert_eq!(short(1e29), "1e29");
+        assert_eq!(short(0.015625), "0.015625");
+        assert_eq!(short(2e6), "2000000");
+        assert_eq!(short(-36_000.0), "-36000");
+        assert_eq!(short(1.0 / 3.0), "3.333333e-1");
+    }
+
+    fn with_table<R>(text: &str, f: impl FnOnce(&mut Ctx, Tbl<'_, '_>) -> R) -> (R, Diagnostics) {
+        let src = Arc::new(Source::new("t.toml", text.to_string()));
+        let doc = DeTable::parse(&src.text).unwrap();
+        let mut ctx = Ctx {
+            src: src.clone(),
+            diags: Diagnostics::default(),
+        };
+        let t = Tbl {
+            path: "t",
+            table: doc.get_ref(),
+            at: (0, src.text.len()),
+        };
+        let r = f(&mut ctx, t);
+        (r, ctx.diags)
+    }
+
+    #[test]
+    fn a_number_out_of_range_is_printed_as_written() {
+        let (x, d) = with_table("x = 5e-324\n", |c, t| {
+            c.number_in(t, "x", Bounds::at_least(1.0).at_most(1000.0))
+        });
+        assert_eq!(x, None);
+        assert_eq!(d.0[0].message, "must be between 1 and 1000, got 5e-324");
+        // 2^53 + 1 is not a double: refused as written, never rounded.
+        let (x, d) = with_table("x = 9007199254740993\n", |c, t| {
+            c.number_in(t, "x", Bounds::at_least(0.0).at_most(1e9))
+        });
+        assert_eq!(x, None);
+        assert!(d.0[0].message.ends_with("got 9007199254740993"), "{d}");
+        let (x, _) = with_table("x = 12\n", |c, t| c.required_integer(t, "x", 1..=64));
+        assert_eq!(x, Some(12));
+        let (x, d) = with_table("", |c, t| c.required_number(t, "x", Bounds::within(1.0)));
+        assert_eq!(x, None);
+        assert_eq!(d.0[0].message, "missing key `x`");
+    }
+
+    #[test]
+    fn a_choice_reads_one_of_its_names_or_suggests_the_closest() {
+        let choices = [("wall", 1), ("wheel", 2), ("floor", 3)];
+        let (x, d) = with_table("p = \"wheel\"\n", |c, t| {
+            c.choice(t, "p", "plane", &choices, None)
+        });
+        assert_eq!((x, d.0.len()), (Some(2), 0));
+        let (x, d) = with_table("", |c, t| c.choice(t, "p", "plane", &choices, Some(1)));
+        assert_eq!((x, d.0.len()), (Some(1), 0));
+        let (x, d) = with_table("", |c, t| c.choice(t, "p", "plane", &choices, None));
+        assert_eq!((x, d.0[0].message.as_str()), (None, "missing key `p`"));
+        let (x, d) = with_table("p = \"whel\"\n", |c, t| {
+            c.choice(t, "p", "plane", &choices, Some(1))
+        });
+        assert_eq!(x, None);
+        assert_eq!(d.0[0].message, "unknown plane `whel`");
+        assert_eq!(d.0[0].help.as_deref(), Some("did you mean `wheel`?"));
+    }
+}

@@ -15,6 +15,8 @@ use crate::model::{Pattern, Placement, Prop, Section};
 /// The tempo changes of `[[tempo]]`, sorted by bar.
 pub(super) fn tempo_changes(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<(u32, f64)> {
     let mut changes: Vec<(u32, f64, Range<usize>)> = Vec::new();
+    // Where the first change at each bar is written.
+    let mut first_at: HashMap<i64, usize> = HashMap::new();
     for (path, table, span) in table_array(ctx, root, "tempo") {
         let t = Tbl {
             path: &path,
@@ -25,14 +27,15 @@ pub(super) fn tempo_changes(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<(u32, f64)>
         let bar = ctx.required_integer(t, "bar", 1..=MAX_BAR);
         let bpm = ctx.required_number(t, "bpm", BPM);
         if let (Some(bar), Some(bpm)) = (bar, bpm) {
-            if let Some(prev) = changes.iter().find(|c| c.0 == bar as u32) {
-                let (line, _) = ctx.src.line_col(prev.2.start);
+            if let Some(&prev) = first_at.get(&bar) {
+                let (line, _) = ctx.src.line_col(prev);
                 ctx.error(
                     &join(&path, "bar"),
                     span.clone(),
                     format!("a tempo change at bar {bar} is already given on line {line}"),
                 );
             }
+            first_at.entry(bar).or_insert(span.start);
             changes.push((bar as u32, bpm, span));
         }
     }
@@ -49,6 +52,7 @@ pub(super) fn sections(
     names: &Declared,
 ) -> Vec<Section> {
     let prop_names: Vec<&str> = names.props.iter().map(String::as_str).collect();
+    let declared_props: HashSet<&str> = prop_names.iter().copied().collect();
     let known = Patterns {
         index: patterns
             .iter()
@@ -81,7 +85,7 @@ pub(super) fn sections(
             }
             let kpath = join(&path, key);
             let Some(&prop) = prop_index.get(key) else {
-                if names.props.iter().any(|n| n == key) {
+                if declared_props.contains(key) {
                     // The prop has errors of its own; still check the pattern.
                     placement(ctx, &kpath, v, &known);
                     continue;
