@@ -40,7 +40,7 @@ pub(super) fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
             at: (span.start, span.end),
         };
         ctx.check_keys(t, PROP_KEYS);
-        check_name(ctx, &path, &name, span.clone());
+        check_prop_name(ctx, &path, &name, span.clone());
         seen.push((name.clone(), span));
         let kind = ctx.choice(t, "kind", "prop kind", KINDS, Some(PropKind::Poi));
         let tether = ctx.required_number(t, "tether_m", LENGTH_M);
@@ -367,9 +367,9 @@ fn is_device_name(name: &str) -> bool {
     DEVICE_NAMES.iter().any(|d| d.eq_ignore_ascii_case(stem))
 }
 
-/// Names become file names: keep them to letters, digits, `_` and `-`, and
-/// off the names of Windows devices.
-pub(super) fn check_name(ctx: &mut Ctx, path: &str, name: &str, span: Range<usize>) {
+/// A prop's name becomes file names: besides [`check_name`], it may not be
+/// the name of a Windows device.
+fn check_prop_name(ctx: &mut Ctx, path: &str, name: &str, span: Range<usize>) {
     if is_device_name(name) {
         ctx.error_help(
             path,
@@ -379,6 +379,12 @@ pub(super) fn check_name(ctx: &mut Ctx, path: &str, name: &str, span: Range<usiz
         );
         return;
     }
+    check_name(ctx, path, name, span);
+}
+
+/// Names become file names and keys: keep them to letters, digits, `_`
+/// and `-`.
+pub(super) fn check_name(ctx: &mut Ctx, path: &str, name: &str, span: Range<usize>) {
     let ok = !name.is_empty()
         && name.len() <= 64
         && name
