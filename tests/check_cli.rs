@@ -1,5 +1,5 @@
 //! `glowscore check` from the outside: exit status, the JSON fields that
-//! /work/shared/contract.md ("Check JSON, at least") fixes, the text report's
+//! docs/conventions.md ("Check JSON") fixes, the text report's
 //! cautions, and byte-for-byte repeatable output.
 
 use std::path::PathBuf;
@@ -49,7 +49,7 @@ left = "circle"
 }
 
 #[test]
-fn json_has_the_contract_fields() {
+fn json_has_the_documented_fields() {
     let path = write("taut.toml", &show(false));
     let out = run(&["check", path.to_str().unwrap(), "--json"]);
     assert_eq!(out.status.code(), Some(0));
@@ -88,10 +88,14 @@ fn warnings_exit_0_unless_denied() {
     let t = String::from_utf8(text.stdout).unwrap();
     for needle in [
         "Cautions",
-        "between 3 and 60",
-        "lithium",
+        "between about 3 and 60",
+        "photosensitive epilepsy",
+        "Lithium batteries burn",
+        "get hot",
         "data sheets",
         "clear space",
+        "this project's own choice",
+        "rated well above",
     ] {
         assert!(t.contains(needle), "{needle} missing from:\n{t}");
     }

@@ -71,7 +71,7 @@ p = "x"
 
 #[test]
 fn leds_are_numbered_from_the_grip_out_head_half_first() {
-    // Contract order: LED 0 nearest the grip; a staff's `end = "both"`
+    // docs/conventions.md, "Motion": LED 0 nearest the grip; a staff's `end = "both"`
     // strip is the head half's LEDs, then the tail half's.
     let s = show(
         100,

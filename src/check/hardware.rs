@@ -8,7 +8,9 @@
 //! line sends a 32-bit start frame, 32 bits per LED and an end frame of at
 //! least half a bit per LED (rounded up to whole bytes), at the line's
 //! clock (also from memory). Clock drift is the tolerance times the show's
-//! length.
+//! length, counted from a sync at the start; it warns when it is larger than
+//! both the performer's own spread about the beat ([`PERFORMER_SPREAD_S`])
+//! and the time in which the fastest head travels the landing tolerance.
 
 use serde::Serialize;
 
@@ -19,6 +21,14 @@ use crate::output::{CompactTableWriter, HEADER_LEN, TRAILER_LEN, TableSpec};
 
 /// Data-only bit time, seconds (800 kbit/s; from memory of common data sheets).
 pub const DATA_ONLY_BIT_S: f64 = 1.25e-6;
+/// How far a performer's own moves spread about the beat they follow,
+/// seconds: people who move to music land within a few tens of
+/// milliseconds of the beat (from memory of studies of moving in time with
+/// a beat; the spread is commonly 10 to 40 ms). The light's clock drift is
+/// only worth a warning once it is larger than this: below it the light is
+/// closer to the music than the performer is.
+pub const PERFORMER_SPREAD_S: f64 = 0.020;
+
 /// Data-only latch (reset) gap after each frame, seconds (from memory).
 pub const DATA_ONLY_LATCH_S: f64 = 50e-6;
 
@@ -162,6 +172,11 @@ pub fn scan(
         let landing_at_max = (v_max > 0.0).then(|| v_max * 0.5 / max_rate * 1000.0);
         let warn = |kind, message: String, value: f64, limit: f64, unit| Warning {
             kind,
+            count: 1,
+            bars: [0, 0],
+            line: None,
+            cue: None,
+            each: Vec::new(),
             prop: prop.name.clone(),
             other_prop: None,
             at: start,
@@ -204,22 +219,31 @@ pub fn scan(
             ));
         }
         let drift_beats = drift * fastest_bpm / 60.0;
-        let half_tolerance_s = if v_max > 0.0 {
-            0.5 * tolerance_mm / 1000.0 / v_max
+        // The show is synced to the music at its start (a button, a cue);
+        // from then on the prop's clock drifts. A landing moves by the
+        // drift times the head's speed; it matters once that is more than
+        // the tolerance and the drift is more than the performer's own
+        // spread about the beat.
+        let tolerance_s = if v_max > 0.0 {
+            tolerance_mm / 1000.0 / v_max
         } else {
             f64::INFINITY
         };
-        if drift > half_tolerance_s || drift_beats > 0.1 {
+        let limit_s = tolerance_s.max(PERFORMER_SPREAD_S);
+        if drift > limit_s {
             warnings.push(warn(
                 WarningKind::Drift,
                 format!(
-                    "a clock off by {} ppm drifts up to {:.1} ms ({drift_beats:.3} beats) by the end of the show; \
+                    "a clock off by {} ppm drifts up to {:.1} ms ({drift_beats:.3} beats) from a sync at the start to the end of the show, \
+                     more than the {:.1} ms a performer's own timing spreads and enough to move a landing by {:.0} mm; \
                      use a tighter clock (or measure this one and give `clock_ppm`) or resync the prop to the music during the show",
                     prop.clock_ppm,
-                    drift * 1000.0
+                    drift * 1000.0,
+                    PERFORMER_SPREAD_S * 1000.0,
+                    drift * v_max * 1000.0
                 ),
                 drift * 1000.0,
-                (half_tolerance_s * 1000.0).min(0.1 * 60.0 / fastest_bpm * 1000.0),
+                limit_s * 1000.0,
                 "ms",
             ));
         }

@@ -6,12 +6,11 @@ use std::path::Path;
 use serde::Serialize;
 
 use super::Failure;
-use crate::events::{Event, find_events};
+use crate::events::Event;
 use crate::model::Show;
-use crate::motion::simulate;
 use crate::num::round_to;
 
-/// One event as the contract's JSON gives it.
+/// One event as `docs/conventions.md` ("Event JSON") gives it.
 #[derive(Serialize)]
 pub struct EventJson<'a> {
     /// Prop name.
@@ -52,27 +51,26 @@ impl<'a> EventJson<'a> {
 
 /// Prints every event of the show at `path` to `out`, sorted by time.
 pub fn run(path: &Path, json: bool, out: &mut dyn Write) -> Result<(), Failure> {
-    let show = crate::show::load(path)?;
-    let events = find_events(&show, &simulate(&show));
-    let io = |e: std::io::Error| Failure::Failed(format!("cannot write the events: {e}"));
+    let prepared = super::prepare(path)?;
+    let (show, events) = (prepared.show(), prepared.events());
+    let io = Failure::output("the events");
     if json {
         // One event per line: valid JSON that diffs well.
-        write!(out, "[").map_err(io)?;
+        write!(out, "[").map_err(&io)?;
         for (i, e) in events.iter().enumerate() {
-            let line = serde_json::to_string(&EventJson::new(&show, e))
-                .map_err(|e| Failure::Failed(e.to_string()))?;
+            let line = serde_json::to_string(&EventJson::new(show, e)).map_err(|e| io(e.into()))?;
             let sep = if i == 0 { "" } else { "," };
-            write!(out, "{sep}\n  {line}").map_err(io)?;
+            write!(out, "{sep}\n  {line}").map_err(&io)?;
         }
-        writeln!(out, "{}]", if events.is_empty() { "" } else { "\n" }).map_err(io)?;
+        writeln!(out, "{}]", if events.is_empty() { "" } else { "\n" }).map_err(&io)?;
     } else {
         writeln!(
             out,
             "{:>12}  {:>10}  {:<10} {:<6} {:>24}  {:>8}",
             "time_s", "bar:beat", "prop", "kind", "position_m (x, y, z)", "m/s"
         )
-        .map_err(io)?;
-        for e in &events {
+        .map_err(&io)?;
+        for e in events {
             let (bar, beat) = show.tempo.bar_beat(e.beat);
             let kind = match e.angle_deg {
                 Some(a) => format!("{}@{a}", e.kind.name()),
@@ -91,7 +89,7 @@ pub fn run(path: &Path, json: bool, out: &mut dyn Write) -> Result<(), Failure> 
                 p.z + 0.0,
                 e.speed_m_s
             )
-            .map_err(io)?;
+            .map_err(&io)?;
         }
     }
     Ok(())

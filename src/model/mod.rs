@@ -6,7 +6,7 @@
 
 use std::sync::Arc;
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 
 use crate::diag::Source;
 mod names;
@@ -136,6 +136,8 @@ impl LedSpot {
 pub struct Prop {
     /// Its name, the key of its `[prop.NAME]` table.
     pub name: String,
+    /// Where its table starts in the show file, bytes (to locate warnings).
+    pub offset: usize,
     /// Poi or staff.
     pub kind: PropKind,
     /// Grip (handle) to the head end's centre, metres: the poi's tether, or
@@ -144,7 +146,7 @@ pub struct Prop {
     /// Grip to the tail end, metres: the staff's other half (0 for a poi).
     pub tail_m: f64,
     /// Centre of the hand's path, stage coordinates, metres.
-    pub anchor_m: Vector3<f64>,
+    pub anchor_m: Vec3,
     /// Number of LEDs on the prop, all strips together.
     pub leds: u32,
     /// The LEDs, strip by strip in table order (never empty). A poi without
@@ -252,18 +254,18 @@ pub enum Plane {
 
 impl Plane {
     /// Unit vector of clock angle 0 (12 o'clock), stage coordinates.
-    pub fn up(self) -> Vector3<f64> {
+    pub fn up(self) -> Vec3 {
         match self {
-            Plane::Wall | Plane::Wheel => Vector3::new(0.0, 1.0, 0.0),
-            Plane::Floor => Vector3::new(0.0, 0.0, -1.0),
+            Plane::Wall | Plane::Wheel => Vec3::new(0.0, 1.0, 0.0),
+            Plane::Floor => Vec3::new(0.0, 0.0, -1.0),
         }
     }
 
     /// Unit vector of clock angle 90 (3 o'clock), stage coordinates.
-    pub fn right(self) -> Vector3<f64> {
+    pub fn right(self) -> Vec3 {
         match self {
-            Plane::Wall | Plane::Floor => Vector3::new(1.0, 0.0, 0.0),
-            Plane::Wheel => Vector3::new(0.0, 0.0, 1.0),
+            Plane::Wall | Plane::Floor => Vec3::new(1.0, 0.0, 0.0),
+            Plane::Wheel => Vec3::new(0.0, 0.0, 1.0),
         }
     }
 
@@ -321,6 +323,8 @@ pub struct Placement {
 /// A run of bars in which each prop plays one pattern (or rests).
 #[derive(Clone, Debug)]
 pub struct Section {
+    /// Where its table starts in the show file, bytes (to locate warnings).
+    pub offset: usize,
     /// First bar, inclusive, from 1.
     pub first_bar: u32,
     /// Last bar, inclusive.
@@ -432,6 +436,8 @@ pub enum Look {
 /// A colour cue on one prop over a range of bars.
 #[derive(Clone, Debug)]
 pub struct Cue {
+    /// Where its table starts in the show file, bytes (to locate warnings).
+    pub offset: usize,
     /// Index into [`Show::props`].
     pub prop: usize,
     /// First bar, inclusive.

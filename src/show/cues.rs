@@ -59,6 +59,7 @@ pub(super) fn cues(
         };
         if let (Some(prop), Some((first_bar, last_bar, _)), Some(look)) = (prop, bars, look) {
             out.push(Cue {
+                offset: span.start,
                 prop,
                 first_bar,
                 last_bar,

@@ -3,7 +3,6 @@
 
 use std::ops::Range;
 
-use nalgebra::Vector3;
 use toml::de::{DeTable, DeValue};
 
 use super::keys::*;
@@ -13,6 +12,7 @@ use super::{
     DEFAULT_IDLE_CURRENT_A, MAX_LEDS, MAX_PROPS, MAX_STRIPS, named_tables, tables_in,
 };
 use crate::diag::Diagnostic;
+use crate::geom::Vec3;
 use crate::model::{End, LedDriver, Prop, PropKind, Strip, WireOrder, c_identifier};
 
 /// The props of `[prop.NAME]`, in file order.
@@ -41,7 +41,7 @@ pub(super) fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
         };
         ctx.check_keys(t, PROP_KEYS);
         check_prop_name(ctx, &path, &name, span.clone());
-        seen.push((name.clone(), span));
+        seen.push((name.clone(), span.clone()));
         let kind = ctx.choice(t, "kind", "prop kind", KINDS, Some(PropKind::Poi));
         let tether = ctx.required_number(t, "tether_m", LENGTH_M);
         let tail = match (kind, t.get("tail_m")) {
@@ -116,6 +116,7 @@ pub(super) fn props(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<Prop> {
             kind, tether, tail, anchor, leds, strips, wire_order, led_driver,
         ) {
             out.push(Prop {
+                offset: span.start,
                 name,
                 kind,
                 tether_m,
@@ -401,7 +402,7 @@ pub(super) fn check_name(ctx: &mut Ctx, path: &str, name: &str, span: Range<usiz
     }
 }
 
-fn vector3(ctx: &mut Ctx, t: Tbl<'_, '_>, key: &str) -> Option<Vector3<f64>> {
+fn vector3(ctx: &mut Ctx, t: Tbl<'_, '_>, key: &str) -> Option<Vec3> {
     let (arr, span) = ctx.array(t, key, true)?;
     let nums: Vec<Option<f64>> = arr
         .iter()
@@ -411,7 +412,7 @@ fn vector3(ctx: &mut Ctx, t: Tbl<'_, '_>, key: &str) -> Option<Vector3<f64>> {
         [Some(x), Some(y), Some(z)]
             if [x, y, z].iter().all(|v| v.is_finite() && v.abs() <= 1000.0) =>
         {
-            Some(Vector3::new(*x, *y, *z))
+            Some(Vec3::new(*x, *y, *z))
         }
         _ => {
             ctx.error_help(

@@ -102,6 +102,7 @@ pub(super) fn sections(
         if let Some((first_bar, last_bar, bspan)) = bars {
             out.push((
                 Section {
+                    offset: span.start,
                     first_bar,
                     last_bar,
                     placements,
