@@ -44,6 +44,15 @@ pub enum Command {
         /// Print a JSON array instead of a table.
         #[arg(long)]
         json: bool,
+        /// Only this prop's events (may be given more than once).
+        #[arg(long, value_name = "NAME")]
+        prop: Vec<String>,
+        /// Only events of this kind: tip, inner, stall, angle, beat or bar (may be given more than once).
+        #[arg(long, value_name = "KIND")]
+        kind: Vec<String>,
+        /// Only events in these bars, inclusive.
+        #[arg(long, value_name = "A-B", value_parser = parse_bars)]
+        bars: Option<(u32, u32)>,
     },
     /// Validate the show and report tension, slack, spin rates, reach, collisions, jumps, flashes, LED current and landing errors.
     Check {

@@ -300,6 +300,20 @@ pub fn did_you_mean<'a>(
         .map(|(_, c)| c)
 }
 
+/// `text` safe to print to a terminal: control characters (escape
+/// sequences, carriage returns, bells) written as `\u{..}`, the rest as is.
+pub fn escape(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        if c.is_control() {
+            out.push_str(&format!("\\u{{{:x}}}", u32::from(c)));
+        } else {
+            out.push(c);
+        }
+    }
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -3,6 +3,7 @@
 
 mod args;
 
+use std::io::ErrorKind;
 use std::process::ExitCode;
 
 use args::{Cli, Command};
@@ -12,6 +13,10 @@ use glowscore::commands::{self, Failure};
 fn main() -> ExitCode {
     match dispatch(Cli::parse().command) {
         Ok(()) => ExitCode::SUCCESS,
+        // A reader that stopped early (`glowscore events | head`): done.
+        Err(Failure::Output { source, .. }) if source.kind() == ErrorKind::BrokenPipe => {
+            ExitCode::SUCCESS
+        }
         Err(e) => {
             eprint!("{e}");
             if let Failure::Invalid(_) = e {
@@ -40,7 +45,20 @@ fn dispatch(command: Command) -> Result<(), Failure> {
             !no_previews,
             &mut std::io::stderr().lock(),
         ),
-        Command::Events { show, json } => commands::events::run(&show, json, stdout),
+        Command::Events {
+            show,
+            json,
+            prop,
+            kind,
+            bars,
+        } => {
+            let filter = commands::events::EventFilter {
+                props: prop,
+                kinds: kind,
+                bars,
+            };
+            commands::events::run(&show, json, &filter, stdout)
+        }
         Command::Check {
             show,
             json,

@@ -369,3 +369,59 @@ fn a_cue_hidden_by_a_later_one_warns_and_counts_only_what_plays() {
     );
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn events_filter_by_prop_kind_and_bars_and_stop_quietly_on_a_closed_pipe() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/moth-garden.toml");
+    let p = path.to_str().unwrap();
+    let events = |extra: &[&str]| -> Vec<serde_json::Value> {
+        let out = bin()
+            .args(["events", p, "--json"])
+            .args(extra)
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        serde_json::from_slice(&out.stdout).unwrap()
+    };
+    let all = events(&[]);
+    let some = events(&["--prop", "left", "--kind", "beat", "--bars", "2-3"]);
+    // Bars 2 and 3 of beats_per_bar beats each: the beats of bar 2 and 3.
+    let expected: Vec<_> = all
+        .iter()
+        .filter(|e| e["prop"] == "left" && e["kind"] == "beat")
+        .filter(|e| (2..=3).contains(&e["bar"].as_i64().unwrap()))
+        .cloned()
+        .collect();
+    assert!(!expected.is_empty());
+    assert_eq!(some, expected);
+    let bad = bin()
+        .args(["events", p, "--kind", "petal"])
+        .output()
+        .unwrap();
+    assert_eq!(bad.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&bad.stderr).contains("not an event kind"));
+    // A reader that stops early, on a show whose events fill more than a
+    // pipe holds (about 200 kB of text): no error, success.
+    let long = Path::new(env!("CARGO_MANIFEST_DIR")).join("benches/fixtures/four-minutes.toml");
+    let mut child = bin()
+        .args(["events", long.to_str().unwrap()])
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    let mut stdout = child.stdout.take().unwrap();
+    let mut first = [0u8; 16];
+    std::io::Read::read_exact(&mut stdout, &mut first).unwrap();
+    drop(stdout);
+    let out = child.wait_with_output().unwrap();
+    assert!(out.status.success(), "{:?}", out.status);
+    assert!(
+        out.stderr.is_empty(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+}

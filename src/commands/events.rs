@@ -49,10 +49,69 @@ impl<'a> EventJson<'a> {
     }
 }
 
-/// Prints every event of the show at `path` to `out`, sorted by time.
-pub fn run(path: &Path, json: bool, out: &mut dyn Write) -> Result<(), Failure> {
+/// Which events to print; every field left empty lets all through.
+#[derive(Clone, Debug, Default)]
+pub struct EventFilter {
+    /// Only these props (names).
+    pub props: Vec<String>,
+    /// Only these kinds (`tip`, `inner`, `stall`, `angle`, `beat`, `bar`).
+    pub kinds: Vec<String>,
+    /// Only events in these bars, inclusive.
+    pub bars: Option<(u32, u32)>,
+}
+
+impl EventFilter {
+    /// Refuses a prop or kind name the show does not know, with the choices.
+    fn validate(&self, show: &Show) -> Result<(), Failure> {
+        for p in &self.props {
+            if show.prop_index(p).is_none() {
+                let names: Vec<&str> = show.props.iter().map(|p| p.name.as_str()).collect();
+                return Err(Failure::Option(format!(
+                    "--prop `{}`: the show has no such prop (it has {})",
+                    crate::diag::escape(p),
+                    names.join(", ")
+                )));
+            }
+        }
+        const KINDS: [&str; 6] = ["tip", "inner", "stall", "angle", "beat", "bar"];
+        for k in &self.kinds {
+            if !KINDS.contains(&k.as_str()) {
+                return Err(Failure::Option(format!(
+                    "--kind `{}` is not an event kind (one of {})",
+                    crate::diag::escape(k),
+                    KINDS.join(", ")
+                )));
+            }
+        }
+        Ok(())
+    }
+
+    fn keeps(&self, show: &Show, e: &Event) -> bool {
+        let (bar, _) = show.tempo.bar_beat(e.beat);
+        (self.props.is_empty() || self.props.contains(&show.props[e.prop].name))
+            && (self.kinds.is_empty() || self.kinds.iter().any(|k| k == e.kind.name()))
+            && self
+                .bars
+                .is_none_or(|(a, b)| i64::from(a) <= bar && bar <= i64::from(b))
+    }
+}
+
+/// Prints the events of the show at `path` that `filter` keeps to `out`,
+/// sorted by time.
+pub fn run(
+    path: &Path,
+    json: bool,
+    filter: &EventFilter,
+    out: &mut dyn Write,
+) -> Result<(), Failure> {
     let prepared = super::prepare(path)?;
-    let (show, events) = (prepared.show(), prepared.events());
+    let show = prepared.show();
+    filter.validate(show)?;
+    let events: Vec<&Event> = prepared
+        .events()
+        .iter()
+        .filter(|e| filter.keeps(show, e))
+        .collect();
     let io = Failure::output("the events");
     if json {
         // One event per line: valid JSON that diffs well.
@@ -70,7 +129,7 @@ pub fn run(path: &Path, json: bool, out: &mut dyn Write) -> Result<(), Failure> 
             "time_s", "bar:beat", "prop", "kind", "position_m (x, y, z)", "m/s"
         )
         .map_err(&io)?;
-        for e in events {
+        for e in &events {
             let (bar, beat) = show.tempo.bar_beat(e.beat);
             let kind = match e.angle_deg {
                 Some(a) => format!("{}@{a}", e.kind.name()),
