@@ -9,10 +9,12 @@ use std::sync::Arc;
 use crate::geom::Vec3;
 
 use crate::diag::Source;
+mod names;
 mod tempo;
 mod wire;
 
 pub use crate::picture::{FixedTo, Picture, PicturePlacement};
+pub use names::c_identifier;
 pub use tempo::TempoMap;
 pub use wire::WireOrder;
 
@@ -35,6 +37,9 @@ pub struct Show {
     pub cues: Vec<Cue>,
     /// The show file, for diagnostics that point into it.
     pub source: Arc<Source>,
+    /// The reader's warnings (old key values still read, and the like):
+    /// the show is used, and every command prints them.
+    pub notes: Vec<crate::diag::Diagnostic>,
 }
 
 /// What kind of prop it is.
@@ -225,10 +230,12 @@ impl Prop {
 /// The family of LED driver on a prop's data line.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub enum LedDriver {
-    /// One data wire at 800 kbit/s, 1.25 us per bit, then a latch gap.
-    OneWire,
-    /// A data and a clock wire, at `clock_hz` bits per second.
-    Clocked {
+    /// A data line alone (the bits timed by pulse width) at 800 kbit/s,
+    /// 1.25 us per bit, then a latch gap (`data_only` in a show).
+    DataOnly,
+    /// A data line beside a clock line, at `clock_hz` bits per second
+    /// (`data_clock` in a show).
+    DataClock {
         /// The data clock, hertz.
         clock_hz: f64,
     },
