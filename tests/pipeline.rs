@@ -508,3 +508,45 @@ fn the_output_folder_keeps_one_set_of_files() {
     assert!(compile(&show).status.success());
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn the_demos_expect_their_warnings_and_pass_deny_warnings() {
+    let shows = Path::new(env!("CARGO_MANIFEST_DIR")).join("shows");
+    let mut checked = 0;
+    for entry in std::fs::read_dir(&shows).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().is_none_or(|e| e != "toml") {
+            continue;
+        }
+        let out = bin()
+            .args(["check", path.to_str().unwrap(), "--deny-warnings", "--json"])
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "{}: {}",
+            path.display(),
+            String::from_utf8_lossy(&out.stderr)
+        );
+        // Expected warnings are still reported, with their reason.
+        let r: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        for w in r["warnings"].as_array().unwrap() {
+            assert!(w["expected"].is_string(), "{}: {w}", path.display());
+        }
+        checked += 1;
+    }
+    assert!(checked >= 3);
+    // Without its `[[expected]]` entries the same show fails the denial.
+    let text = std::fs::read_to_string(shows.join("moth-garden.toml")).unwrap();
+    let cut = text.find("[[expected]]").unwrap();
+    let dir = folder("expected");
+    let bare = dir.join("bare.toml");
+    std::fs::write(&bare, &text[..cut]).unwrap();
+    let out = bin()
+        .args(["check", bare.to_str().unwrap(), "--deny-warnings"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("does not expect"));
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -177,6 +177,7 @@ pub fn scan(
             line: None,
             cue: None,
             each: Vec::new(),
+            expected: None,
             prop: prop.name.clone(),
             other_prop: None,
             at: start,

@@ -35,6 +35,8 @@ pub struct Show {
     pub sections: Vec<Section>,
     /// The colour cues, in file order (later ones win where they overlap).
     pub cues: Vec<Cue>,
+    /// Warnings the show's author expects (`[[expected]]`), in file order.
+    pub expected: Vec<Expected>,
     /// The show file, for diagnostics that point into it.
     pub source: Arc<Source>,
     /// The reader's warnings (old key values still read, and the like):
@@ -472,6 +474,37 @@ impl Cue {
             Look::Image(_) => "image",
         }
     }
+}
+
+/// The names of the check's warning kinds, as `[[expected]]` gives them.
+pub const WARNING_KINDS: &[&str] = &[
+    "slack",
+    "spin_rate",
+    "collision",
+    "jump",
+    "flash",
+    "current",
+    "landing",
+    "refresh",
+    "memory",
+    "drift",
+    "coverage",
+    "overlap",
+];
+
+/// A warning the show's author knows of and means (`[[expected]]`).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Expected {
+    /// Where its table starts in the show file, bytes.
+    pub offset: usize,
+    /// The warning kind, one of [`WARNING_KINDS`].
+    pub kind: &'static str,
+    /// The prop it is about (`(stage)` for the whole stage); any when `None`.
+    pub prop: Option<String>,
+    /// First and last bar it may fall in, inclusive; anywhere when `None`.
+    pub bars: Option<(u32, u32)>,
+    /// Why it is expected, in the author's words.
+    pub why: String,
 }
 
 impl Show {

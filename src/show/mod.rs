@@ -9,6 +9,7 @@
 //! line, column and key path.
 
 mod cues;
+mod expected;
 mod keys;
 mod patterns;
 mod props;
@@ -238,6 +239,7 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
     let sections = sections::sections(ctx, root, &props, &patterns, &names);
     let last_bar = sections.iter().map(|s| s.last_bar).max();
     let cues = cues::cues(ctx, root, &props, &names, last_bar);
+    let expected = expected::expected(ctx, root, &props);
 
     let tempo = TempoMap::new(start_s, beats_per_bar, bpm?, &changes);
     let show = Show {
@@ -248,6 +250,7 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
         patterns,
         sections,
         cues,
+        expected,
         source: ctx.src.clone(),
         notes: Vec::new(),
     };
