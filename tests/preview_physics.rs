@@ -72,7 +72,7 @@ proptest! {
     /// times the exposure gain after metering.
     #[test]
     fn film_holds_all_the_light_given_off(
-        hand in 0.0f64..0.4,
+        hand in 0.001f64..0.4, // the reader refuses sizes under a millimetre
         tether in 0.2f64..0.7,
         turns in -4i32..=4,
         bpm in 40.0f64..200.0,

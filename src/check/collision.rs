@@ -219,12 +219,6 @@ pub fn scan_pair(
             };
             Warning {
                 kind: WarningKind::Collision,
-                count: 1,
-                bars: [0, 0],
-                line: None,
-                cue: None,
-            each: Vec::new(),
-            expected: None,
                 prop: na.clone(),
                 other_prop: Some(nb.clone()),
                 at: When::at_beat(show, s.start),
@@ -233,6 +227,7 @@ pub fn scan_pair(
                 limit: Some(contact),
                 unit: Some("m"),
                 message,
+                ..Warning::UNGATHERED
             }
         })
         .collect();

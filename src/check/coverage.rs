@@ -533,12 +533,6 @@ fn warning(
     }
     Warning {
         kind: WarningKind::Coverage,
-        count: 1,
-        bars: [0, 0],
-        line: None,
-        cue: None,
-        each: Vec::new(),
-        expected: None,
         prop: name.clone(),
         other_prop: None,
         at: When::at_beat(show, start),
@@ -556,6 +550,7 @@ fn warning(
             entry.texels,
             advice.join("; ")
         ),
+        ..Warning::UNGATHERED
     }
 }
 

@@ -172,12 +172,6 @@ pub fn scan(
         let landing_at_max = (v_max > 0.0).then(|| v_max * 0.5 / max_rate * 1000.0);
         let warn = |kind, message: String, value: f64, limit: f64, unit| Warning {
             kind,
-            count: 1,
-            bars: [0, 0],
-            line: None,
-            cue: None,
-            each: Vec::new(),
-            expected: None,
             prop: prop.name.clone(),
             other_prop: None,
             at: start,
@@ -186,6 +180,7 @@ pub fn scan(
             limit: Some(limit),
             unit: Some(unit),
             message,
+            ..Warning::UNGATHERED
         };
         if rate > max_rate {
             let at = match landing_at_max {

@@ -103,12 +103,6 @@ pub fn jumps(show: &Show, motion: &PropMotion, limit_m: f64) -> Vec<Warning> {
             }
             out.push(Warning {
                 kind: WarningKind::Jump,
-                count: 1,
-                bars: [0, 0],
-                line: None,
-                cue: None,
-            each: Vec::new(),
-            expected: None,
                 prop: name.clone(),
                 other_prop: None,
                 at,
@@ -121,6 +115,7 @@ pub fn jumps(show: &Show, motion: &PropMotion, limit_m: f64) -> Vec<Warning> {
                     at.bar,
                     (hand1 - hand0).norm()
                 ),
+                ..Warning::UNGATHERED
             });
         }
     }

@@ -126,12 +126,6 @@ pub fn scan(
                 .map_or_else(|| "a higher frame rate".to_string(), |f| format!("{f} Hz"));
             warnings.push(Warning {
                 kind: WarningKind::Landing,
-                count: 1,
-                bars: [0, 0],
-                line: None,
-                cue: None,
-            each: Vec::new(),
-            expected: None,
                 prop: entry.prop.clone(),
                 other_prop: None,
                 at: When::at_beat(show, show.tempo.beat_at_time(w.event_s)),
@@ -144,6 +138,7 @@ pub fn scan(
                      more than the {tolerance_mm} mm tolerance; {need} would keep it within",
                     entry.at, entry.prop, w.error_mm, worst_ms
                 ),
+                ..Warning::UNGATHERED
             });
         }
         cues.push(entry);

@@ -254,12 +254,6 @@ impl LightTally {
                     let start = o.first as f64 / rate;
                     warnings.push(Warning {
                         kind: WarningKind::Current,
-                        count: 1,
-                        bars: [0, 0],
-                        line: None,
-                        cue: None,
-            each: Vec::new(),
-            expected: None,
                         prop: prop.name.clone(),
                         other_prop: None,
                         at: when(start),
@@ -271,6 +265,7 @@ impl LightTally {
                             "{} draws up to {:.3} A from its LEDs, more than its max_current_a of {:.3} A",
                             prop.name, o.peak_a, max
                         ),
+                        ..Warning::UNGATHERED
                     });
                 }
             }
@@ -353,12 +348,6 @@ fn flash_warnings(
     for w in &report.windows {
         out.push(Warning {
             kind: WarningKind::Flash,
-            count: 1,
-            bars: [0, 0],
-            line: None,
-            cue: None,
-            each: Vec::new(),
-            expected: None,
             prop: name.to_string(),
             other_prop: None,
             at: when(w.start_s),
@@ -371,6 +360,7 @@ fn flash_warnings(
                  (W3C WCAG 2.x thresholds, written for screens, applied here as a conservative guide)",
                 w.general, w.red
             ),
+            ..Warning::UNGATHERED
         });
     }
 }

@@ -24,12 +24,8 @@ pub(crate) fn scan(show: &Show, lights: &Lights) -> Vec<Warning> {
             };
             out.push(Warning {
                 kind: WarningKind::Overlap,
-                count: 1,
                 bars: [a.bar, b.bar],
-                line: None,
                 cue: Some(h.cue),
-                each: Vec::new(),
-                expected: None,
                 prop: show.props[pl.prop].name.clone(),
                 other_prop: None,
                 at: a,
@@ -49,6 +45,7 @@ pub(crate) fn scan(show: &Show, lights: &Lights) -> Vec<Warning> {
                     a.bar,
                     a.beat
                 ),
+                ..Warning::UNGATHERED
             });
         }
     }

@@ -172,12 +172,6 @@ pub fn scan_prop(
         let (t, at) = s.figure;
         warnings.push(Warning {
             kind: WarningKind::Slack,
-            count: 1,
-            bars: [0, 0],
-            line: None,
-            cue: None,
-            each: Vec::new(),
-            expected: None,
             prop: name.clone(),
             other_prop: None,
             at: When::at_beat(show, s.start),
@@ -190,6 +184,7 @@ pub fn scan_prop(
                 t / weight,
                 When::at_beat(show, at)
             ),
+            ..Warning::UNGATHERED
         });
     }
     let turning = if staff { "staff" } else { "tether" };
@@ -198,12 +193,6 @@ pub fn scan_prop(
             let dur = seconds(s.start, s.end);
             warnings.push(Warning {
                 kind: WarningKind::SpinRate,
-                count: 1,
-                bars: [0, 0],
-                line: None,
-                cue: None,
-            each: Vec::new(),
-            expected: None,
                 prop: name.clone(),
                 other_prop: None,
                 at: When::at_beat(show, s.start),
@@ -215,6 +204,7 @@ pub fn scan_prop(
                     "{name}: the {what} turns {:.2} times per second for {dur:.3} s, beyond the {} turns/s people commonly sustain",
                     s.figure, settings.spin_limit_turns_per_s
                 ),
+                ..Warning::UNGATHERED
             });
         }
     }

@@ -180,6 +180,31 @@ pub struct Instance {
 }
 
 impl Warning {
+    /// The fields the checks leave to [`CheckReport::finish`] (it groups,
+    /// locates and matches the warnings): for `..Warning::UNGATHERED` at the
+    /// end of a warning the checks make.
+    pub(crate) const UNGATHERED: Warning = Warning {
+        kind: WarningKind::Slack,
+        prop: String::new(),
+        other_prop: None,
+        at: When {
+            time_s: 0.0,
+            bar: 0,
+            beat: 0.0,
+        },
+        duration_s: None,
+        value: None,
+        limit: None,
+        unit: None,
+        message: String::new(),
+        count: 1,
+        bars: [0, 0],
+        line: None,
+        cue: None,
+        expected: None,
+        each: Vec::new(),
+    };
+
     /// Every time it happened, each as a warning of its own (itself, when it
     /// happened once).
     pub fn instances(&self) -> Vec<Warning> {
