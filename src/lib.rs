@@ -18,6 +18,7 @@ pub mod events;
 pub mod flash;
 pub mod model;
 pub mod motion;
+pub mod music;
 pub mod num;
 pub mod output;
 pub mod picture;
