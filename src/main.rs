@@ -58,6 +58,20 @@ enum Command {
     },
     /// Render a long-exposure picture of the show, or of some bars of it, as a PNG.
     Preview(Box<commands::preview::PreviewArgs>),
+    /// Find a song's tempo, beats, downbeats and tempo changes (WAV, FLAC, Ogg Vorbis, MP3).
+    Tempo {
+        /// The song.
+        song: PathBuf,
+        /// Print one JSON object instead of TOML for a show.
+        #[arg(long)]
+        json: bool,
+        /// Beats per bar, if known (otherwise 3 or 4 from the accents).
+        #[arg(long, value_name = "N")]
+        beats_per_bar: Option<u32>,
+        /// Search only these tempi, e.g. 80-160 (to choose between half and double).
+        #[arg(long, value_name = "LO-HI")]
+        bpm_range: Option<String>,
+    },
 }
 
 /// The binary form embedded in the C header.
@@ -105,6 +119,22 @@ fn main() -> ExitCode {
             commands::check::run(&show, json, deny_warnings, tolerance_mm, out)
         }
         Command::Preview(args) => commands::preview::run(&args, &mut std::io::stdout().lock()),
+        Command::Tempo {
+            song,
+            json,
+            beats_per_bar,
+            bpm_range,
+        } => bpm_range
+            .as_deref()
+            .map(commands::tempo::parse_range)
+            .transpose()
+            .and_then(|bpm_range| {
+                let opts = glowscore::music::Options {
+                    beats_per_bar,
+                    bpm_range,
+                };
+                commands::tempo::run(&song, json, &opts, &mut std::io::stdout().lock())
+            }),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,
