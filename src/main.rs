@@ -72,6 +72,20 @@ enum Command {
         #[arg(long, value_name = "LO-HI")]
         bpm_range: Option<String>,
     },
+    /// Write a practice WAV: the song, a click on every beat and a tone at each colour change of a prop.
+    Rehearse {
+        /// The show file (TOML).
+        show: PathBuf,
+        /// The WAV file to write.
+        #[arg(long, value_name = "FILE.wav")]
+        out: PathBuf,
+        /// The prop whose colour changes sound (default: the first).
+        #[arg(long, value_name = "P")]
+        prop: Option<String>,
+        /// The song to mix in.
+        #[arg(long, value_name = "SONG")]
+        song: Option<PathBuf>,
+    },
 }
 
 /// The binary form embedded in the C header.
@@ -135,6 +149,12 @@ fn main() -> ExitCode {
                 };
                 commands::tempo::run(&song, json, &opts, &mut std::io::stdout().lock())
             }),
+        Command::Rehearse {
+            show,
+            out,
+            prop,
+            song,
+        } => commands::rehearse::run(&show, &out, prop.as_deref(), song.as_deref()),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -195,3 +195,30 @@ fn wav_decodes_and_bad_files_are_refused() {
     assert!(e.contains("notes.wav"), "{e}");
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn rehearsal_track_keeps_its_levels() {
+    let dir = std::env::temp_dir().join(format!("glowscore-rehearse-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let show = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/moth-garden.toml");
+    let song = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/tide-lamp-groove.wav");
+    let out = dir.join("practice.wav");
+    glowscore::commands::rehearse::run(&show, &out, Some("left"), Some(&song)).expect("writes");
+    let a = decode_file(&out).expect("reads back");
+    let peak = a.samples.iter().fold(0f32, |m, &x| m.max(x.abs()));
+    // The documented levels add to at most 1.0 of full scale: no clipping.
+    assert!(peak > 0.2 && peak < 1.0, "peak {peak}");
+    // The clicks follow the show's tempo map: 96 bpm at bar 1 (moth-garden.toml).
+    let t = analyse(&a, &Options::default()).expect("a beat");
+    assert!(
+        (t.bpm / 96.0 - 1.0).abs() < 0.01
+            || t.tempo.iter().any(|c| (c.bpm / 96.0 - 1.0).abs() < 0.01),
+        "{:?} {:?}",
+        t.bpm,
+        t.tempo
+    );
+    let e =
+        glowscore::commands::rehearse::run(&show, &out, Some("nobody"), None).expect_err("no prop");
+    assert!(e.to_string().contains("nobody"), "{e}");
+    let _ = std::fs::remove_dir_all(&dir);
+}
