@@ -5,7 +5,7 @@ use std::hint::black_box;
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use glowscore::check::{CheckSettings, check};
-use glowscore::motion::simulate;
+use glowscore::prepared::Prepared;
 
 /// The show text: patterns cycle through antispin flowers, extensions, a
 /// stall line, a wheel isolation, an inspin and a two-term hand path.
@@ -94,15 +94,11 @@ head_turns = -4
 
 fn bench(c: &mut Criterion) {
     let show = glowscore::show::parse("bench.toml", four_minute_show()).expect("valid show");
-    let motions = simulate(&show);
     let settings = CheckSettings::default();
     assert!(show.end_s() > 235.0, "about four minutes: {}", show.end_s());
-    eprintln!(
-        "sample intervals: {}",
-        glowscore::check::samples_needed(&show, &motions, &settings)
-    );
+    let prepared = Prepared::new(show).expect("prepares");
     c.bench_function("check a 4-minute two-prop show", |b| {
-        b.iter(|| check(black_box(&show), black_box(&motions), &settings))
+        b.iter(|| check(black_box(&prepared), &settings))
     });
 }
 

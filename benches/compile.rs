@@ -4,6 +4,7 @@
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use glowscore::compile::{CompileOptions, compile};
+use glowscore::prepared::Prepared;
 
 fn bench(c: &mut Criterion) {
     let dir = std::env::temp_dir().join("glowscore-bench-compile");
@@ -18,7 +19,11 @@ fn bench(c: &mut Criterion) {
         let mut opts = CompileOptions::new(dir.join(fixture));
         opts.previews = false;
         g.bench_function(fixture, |b| {
-            b.iter(|| compile(&show, &opts).expect("compiles").0.frames)
+            b.iter(|| {
+                // Preparing is part of the job: the command does both.
+                let prepared = Prepared::new(show.clone()).expect("prepares");
+                compile(&prepared, &opts).expect("compiles").0.frames
+            })
         });
     }
     g.finish();

@@ -3,9 +3,7 @@
 //! time scales with the picture size and the number of frames.
 
 use criterion::{Criterion, criterion_group, criterion_main};
-use glowscore::cues::place;
-use glowscore::events::find_events;
-use glowscore::motion::simulate;
+use glowscore::prepared::Prepared;
 use glowscore::preview::{self, PreviewOptions};
 
 /// Two poi, 8 bars at 120 bpm: 4 bars of extensions, 4 of four-petal antispin.
@@ -75,15 +73,13 @@ fn bench(c: &mut Criterion) {
         (4000, 3840, 2160),
     ] {
         let s = show(rate);
-        let m = simulate(&s);
-        let e = find_events(&s, &m);
-        let l = place(&s, &m, &e);
+        let p = Prepared::new(s).expect("prepares");
         let opts = PreviewOptions {
             size: Some((w, h)),
             ..PreviewOptions::default()
         };
         g.bench_function(format!("{w}x{h} at {rate} fps"), |b| {
-            b.iter(|| preview::render(&s, &m, &l, &opts).expect("renders"))
+            b.iter(|| preview::render(&p, &opts).expect("renders"))
         });
     }
     g.finish();

@@ -17,9 +17,12 @@ mod common;
 use std::f64::consts::{PI, TAU};
 use std::sync::Arc;
 
+use common::check_show;
 use glowscore::check::coverage::{MIN_COVERED_FRACTION, PaintingCoverage};
-use glowscore::check::{CheckError, CheckReport, WarningKind, check_show};
+use glowscore::check::{CheckError, CheckReport, WarningKind};
+use glowscore::commands::Failure;
 use glowscore::model::{FixedTo, Look, Painting, Picture, PicturePlacement, Show};
+use glowscore::prepared::PrepareError;
 
 /// A `n` x `n` picture, opaque white where `keep(i, j)` holds (texel
 /// column i, row j), transparent elsewhere.
@@ -98,11 +101,12 @@ fn check(show: &Show) -> CheckReport {
     check_show(show).expect("within the budget")
 }
 
-fn coverage_warnings(r: &CheckReport) -> Vec<&glowscore::check::Warning> {
+fn coverage_warnings(r: &CheckReport) -> Vec<glowscore::check::Warning> {
     r.warnings
         .iter()
         .filter(|w| w.kind == WarningKind::Coverage)
-        .collect()
+        .flat_map(|w| w.instances())
+        .collect::<Vec<_>>()
 }
 
 /// Bounds on the visible texels of `pic` (placed at `place`, not turning)
@@ -251,7 +255,7 @@ fn a_picture_much_larger_than_the_reach_is_covered_in_proportion_and_warns() {
     );
     let warns = coverage_warnings(&rep);
     assert_eq!(warns.len(), 1);
-    let w = warns[0];
+    let w = &warns[0];
     assert_eq!(w.prop, "p");
     assert_eq!(w.unit, Some("%"));
     assert!((w.value.unwrap() - 100.0 * f).abs() < 1e-9);
@@ -374,7 +378,7 @@ fn absurd_work_is_refused_before_it_starts() {
     let show = painted(&text, pic, placement([0.0, 0.0], 1.0, FixedTo::Stage));
     let started = std::time::Instant::now();
     match check_show(&show) {
-        Err(CheckError::TooMuchPainting { cue, tests }) => {
+        Err(Failure::Check(CheckError::TooMuchPainting { cue, tests })) => {
             assert_eq!(cue, 0);
             assert!(tests > glowscore::check::coverage::MAX_TEXEL_TESTS);
         }
@@ -386,7 +390,7 @@ fn absurd_work_is_refused_before_it_starts() {
     // light figures alone: refused for that, before anything else.
     let fast = text.replace("frame_rate = 500", "frame_rate = 100000");
     match check_show(&common::show(&fast)) {
-        Err(CheckError::TooManyFrames { led_frames }) => {
+        Err(Failure::Prepare(PrepareError::TooManyFrames { led_frames })) => {
             assert!((led_frames - 4000.0 * 100_000.0 * 128.0).abs() < 1.0);
         }
         other => panic!("expected a refusal, got {other:?}"),
@@ -530,7 +534,7 @@ fn counting_the_texels_of_many_hidden_paintings_is_work_too() {
     let tests = glowscore::check::coverage::tests_needed(&show, &motions);
     assert!(tests >= 2400.0 * 2048.0 * 2048.0, "{tests:e}");
     match check_show(&show) {
-        Err(CheckError::TooMuchPainting { tests, .. }) => {
+        Err(Failure::Check(CheckError::TooMuchPainting { tests, .. })) => {
             assert!(tests > glowscore::check::coverage::MAX_TEXEL_TESTS);
         }
         other => panic!("expected a refusal, got {:?}", other.map(|_| ())),

@@ -15,7 +15,8 @@ fn show(extra_prop_keys: &str, frame_rate: u32, bars: u32) -> String {
 
 fn report(text: &str) -> glowscore::check::report::CheckReport {
     let show = glowscore::show::parse("hw.toml", text.to_string()).unwrap();
-    glowscore::check::check_show(&show).unwrap()
+    let prepared = glowscore::prepared::Prepared::new(show).unwrap();
+    glowscore::check::check(&prepared, &Default::default()).unwrap()
 }
 
 fn kinds(r: &glowscore::check::report::CheckReport) -> Vec<&'static str> {
@@ -23,8 +24,8 @@ fn kinds(r: &glowscore::check::report::CheckReport) -> Vec<&'static str> {
 }
 
 #[test]
-fn one_wire_line_of_100_leds_cannot_play_500_frames_per_second() {
-    // From memory of common one-wire LED data sheets: 1.25 us per bit, 24
+fn data_only_line_of_100_leds_cannot_play_500_frames_per_second() {
+    // From memory of common data-only LED data sheets: 1.25 us per bit, 24
     // bits per RGB LED, a latch of at least 50 us: about 328 frames/s.
     let r = report(&show("", 500, 2));
     let h = r.props[0].hardware.as_ref().unwrap();
@@ -36,9 +37,9 @@ fn one_wire_line_of_100_leds_cannot_play_500_frames_per_second() {
     assert!(kinds(&r).contains(&"refresh"));
     let ok = report(&show("", 300, 2));
     assert!(!kinds(&ok).contains(&"refresh"));
-    // A clocked line at 8 MHz plays it.
+    // A data-and-clock line at 8 MHz plays it.
     let clocked = report(&show(
-        "led_driver = \"clocked\"\ndriver_clock_hz = 8e6",
+        "led_driver = \"data_clock\"\ndriver_clock_hz = 8e6",
         500,
         2,
     ));
@@ -69,6 +70,24 @@ fn drift_of_a_ceramic_resonator_warns_and_a_crystal_does_not() {
     assert!((h.drift_ms - 600.0).abs() < 1e-6);
     assert!((h.drift_beats - 1.2).abs() < 1e-9);
     assert!(kinds(&ceramic).contains(&"drift"));
+    // The show is synced at its start; a drift within the performer's own
+    // spread about the beat (20 ms, see `PERFORMER_SPREAD_S`) is not worth a
+    // warning, however fast the head: 6 ms and 18 ms (150 ppm) pass, 30 ms
+    // (250 ppm) warns.
+    assert!(!kinds(&crystal).contains(&"drift"));
+    assert!(!kinds(&report(&show("clock_ppm = 150", 100, 60))).contains(&"drift"));
+    let loose = report(&show("clock_ppm = 250", 100, 60));
+    assert!(kinds(&loose).contains(&"drift"));
+    let w = loose
+        .warnings
+        .iter()
+        .find(|w| w.kind.name() == "drift")
+        .unwrap();
+    assert_eq!(
+        w.limit,
+        Some(20.0),
+        "the limit is the performer's spread here"
+    );
 }
 
 #[test]

@@ -12,8 +12,9 @@ mod common;
 
 use std::f64::consts::{PI, TAU};
 
+use common::check_show;
 use glowscore::check::tension::G0;
-use glowscore::check::{CheckReport, WarningKind, check_show};
+use glowscore::check::{CheckReport, WarningKind};
 use glowscore::num;
 
 /// A one-prop show at `bpm` (4 beats a bar), with pattern keys as TOML lines.
@@ -53,7 +54,11 @@ fn close(got: f64, want: f64, tol: f64, what: &str) {
 }
 
 fn count(r: &CheckReport, kind: WarningKind) -> usize {
-    r.warnings.iter().filter(|w| w.kind == kind).count()
+    r.warnings
+        .iter()
+        .filter(|w| w.kind == kind)
+        .map(|w| w.count)
+        .sum()
 }
 
 #[test]
@@ -141,7 +146,8 @@ fn tether_goes_slack_at_the_top_just_below_w2r_equals_g() {
         .warnings
         .iter()
         .filter(|x| x.kind == WarningKind::Slack)
-        .collect();
+        .flat_map(|w| w.instances())
+        .collect::<Vec<_>>();
     assert_eq!(slack.len(), 8);
     let want = 2.0 * (w * w * r / G0).acos() / w;
     for s in &slack {
@@ -230,7 +236,8 @@ fn a_tempo_change_inside_a_section_changes_the_tension() {
         .warnings
         .iter()
         .filter(|x| x.kind == WarningKind::Slack)
-        .collect();
+        .flat_map(|w| w.instances())
+        .collect::<Vec<_>>();
     assert_eq!(slack.len(), 8, "one per turn in bars 1-2 only");
     assert!(
         slack
@@ -258,7 +265,8 @@ fn spin_rates_beyond_common_practice_warn() {
         .warnings
         .iter()
         .filter(|x| x.kind == WarningKind::SpinRate)
-        .collect();
+        .flat_map(|w| w.instances())
+        .collect::<Vec<_>>();
     assert_eq!(w.len(), 2, "one for the hand, one for the tether");
     close(w[0].duration_s.unwrap(), 2.0, 1e-12, "two bars at 240 bpm");
     assert_eq!(count(&usual, WarningKind::SpinRate), 0);
@@ -315,7 +323,8 @@ fn heads_crossing_a_known_point_collide_there() {
         .warnings
         .iter()
         .filter(|x| x.kind == WarningKind::Collision)
-        .collect();
+        .flat_map(|w| w.instances())
+        .collect::<Vec<_>>();
     assert_eq!(hits.len(), 2, "one per turn");
     for (h, when) in hits.iter().zip([1.0, 5.0]) {
         assert_eq!((h.prop.as_str(), h.other_prop.as_deref()), ("a", Some("b")));
@@ -346,14 +355,16 @@ fn heads_passing_at_a_known_distance_collide_only_if_larger() {
         .warnings
         .iter()
         .find(|x| x.kind == WarningKind::Collision)
-        .unwrap();
+        .unwrap()
+        .instances()[0]
+        .clone();
     close(w.at.time_s, 1.0 - half, 1e-9, "contact starts");
     close(w.duration_s.unwrap(), 2.0 * half, 1e-9, "contact lasts");
 }
 
 #[test]
 fn props_that_never_move_together_are_not_compared() {
-    // The brief: collisions only while both props move.
+    // docs/conventions.md, "Check JSON": collisions only while both props move.
     let text = pair(0.5, "").replace("b = { pattern = \"circle\", mirror = true }", "");
     let rep = report(&text);
     assert_eq!(rep.pairs[0].min_head_distance_m, None);
@@ -558,7 +569,7 @@ fn refined_extremes_bound_a_dense_sampling_of_the_motion_model() {
         let st = m.state_at(&show.tempo, t0 + (t1 - t0) * i as f64 / n as f64);
         let q = st.head_m - st.hand_m;
         let u = q / q.norm();
-        let g = nalgebra::Vector3::new(0.0, -G0, 0.0);
+        let g = glowscore::geom::Vec3::new(0.0, -G0, 0.0);
         let t = -0.14 * (st.head_acc - g).dot(&u);
         tmin = tmin.min(t);
         tmax = tmax.max(t);

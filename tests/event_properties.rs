@@ -35,7 +35,7 @@ proptest! {
         let h = 1e-4;
         for e in events.iter().filter(|e| matches!(e.kind, EventKind::Tip | EventKind::Inner | EventKind::Stall)) {
             let at = |b: f64| m.state_at_beat(&show.tempo, b);
-            let dist = |b: f64| (at(b).head_m - nalgebra::Vector3::new(0.0, 1.5, 0.0)).norm();
+            let dist = |b: f64| (at(b).head_m - glowscore::geom::Vec3::new(0.0, 1.5, 0.0)).norm();
             let speed = |b: f64| at(b).head_vel.norm();
             let tol = 1e-12;
             match e.kind {

@@ -190,7 +190,7 @@ impl Iterator for ShowGen {
             }
             Piece::Noise(_) => (0..leds).map(|_| self.rng.colour()).collect(),
             Piece::Strobe(a, b, _) => {
-                if j % 2 == 0 {
+                if j.is_multiple_of(2) {
                     a.clone()
                 } else {
                     b.clone()
@@ -877,8 +877,8 @@ fn write_failures_are_reported() {
 // CSV
 
 #[test]
-fn csv_has_the_contract_header_and_one_row_per_frame() {
-    // /work/shared/contract.md: header frame,time_s,r0,g0,b0,r1,...; time_s = frame start.
+fn csv_has_the_documented_header_and_one_row_per_frame() {
+    // docs/conventions.md, "CSV table": header frame,time_s,r0,g0,b0,r1,...; time_s = frame start.
     let spec = TableSpec {
         frame_rate_hz: 3,
         leds: 2,

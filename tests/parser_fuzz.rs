@@ -7,10 +7,10 @@ use proptest::prelude::*;
 
 const DEMO: &str = include_str!("../shows/moth-garden.toml");
 const REEL: &str = include_str!("../shows/salt-marsh-reel.toml");
-const FERRY: &str = include_str!("../shows/night-ferry.toml");
+const LANTERNS: &str = include_str!("../shows/eelgrass-lanterns.toml");
 
 fn run(text: String) {
-    // Named as if in `shows/`, so that the ferry's picture is found.
+    // Named as if in `shows/`, so that the staff show's picture is found.
     if let Ok(show) = glowscore::show::parse("shows/fuzz.toml", text) {
         let motions = glowscore::motion::simulate(&show);
         let events = glowscore::events::find_events(&show, &motions);
@@ -59,7 +59,7 @@ proptest! {
         edits in proptest::collection::vec((any::<usize>(), any::<u8>(), any::<u8>()), 1..8),
         which in 0..3usize,
     ) {
-        run(mutate([DEMO, REEL, FERRY][which], &edits));
+        run(mutate([DEMO, REEL, LANTERNS][which], &edits));
     }
 
     #[test]
@@ -73,7 +73,7 @@ proptest! {
         ],
     ) {
         // Replace the n-th number of a demo with an edge value.
-        let demo = if pos % 2 == 0 { DEMO } else { FERRY };
+        let demo = if pos % 2 == 0 { DEMO } else { LANTERNS };
         let pos = pos / 2;
         let nums: Vec<(usize, usize)> = demo
             .match_indices(|c: char| c.is_ascii_digit())

@@ -13,13 +13,11 @@ mod common;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-use glowscore::cues::place;
-use glowscore::events::find_events;
-use glowscore::motion::simulate;
+use glowscore::geom::Vec3;
+use glowscore::prepared::Prepared;
 use glowscore::preview::tone::{encode_srgb8, shoulder};
 use glowscore::preview::{self, Pinhole, PreviewOptions, Shutter, View};
 use image::{Rgb, RgbImage};
-use nalgebra::Vector3;
 
 /// IEC 61966-2-1 (sRGB) encoding, written out from the standard: V = 12.92 L
 /// for L <= 0.0031308, else 1.055 L^(1/2.4) - 0.055.
@@ -193,11 +191,8 @@ fn check_golden(name: &str, img: &RgbImage) {
 }
 
 fn render(opts: &PreviewOptions) -> RgbImage {
-    let show = common::show(FLOWER);
-    let motions = simulate(&show);
-    let events = find_events(&show, &motions);
-    let lights = place(&show, &motions, &events);
-    preview::render(&show, &motions, &lights, opts).expect("renders")
+    let prepared = Prepared::new(common::show(FLOWER)).unwrap();
+    preview::render(&prepared, opts).expect("renders")
 }
 
 fn small(view: View, bars: (u32, u32)) -> PreviewOptions {
@@ -234,7 +229,7 @@ fn golden_whole_show_from_a_seat() {
     let o = PreviewOptions {
         size: Some((160, 120)),
         pinhole: Some(Pinhole {
-            eye_m: Vector3::new(2.5, 1.7, 5.0),
+            eye_m: Vec3::new(2.5, 1.7, 5.0),
             look_at_m: None,
             fov_deg: 35.0,
         }),
@@ -357,17 +352,14 @@ fn cli_usage_errors_exit_2_and_failures_leave_the_old_picture() {
 
 #[test]
 fn previews_for_compile_one_per_section_and_one_of_the_show() {
-    let show = common::show(FLOWER);
-    let motions = simulate(&show);
-    let events = find_events(&show, &motions);
-    let lights = place(&show, &motions, &events);
+    let prepared = Prepared::new(common::show(FLOWER)).unwrap();
     let dir = tmp("compile");
     std::fs::create_dir_all(&dir).unwrap();
     let opts = PreviewOptions {
         size: Some((120, 90)),
         ..PreviewOptions::default()
     };
-    let files = preview::write_previews(&show, &motions, &lights, &dir, &opts).unwrap();
+    let files = preview::write_previews(&prepared, &dir, &opts).unwrap();
     let names: Vec<String> = files
         .iter()
         .map(|f| f.file_name().unwrap().to_string_lossy().into_owned())

@@ -133,7 +133,7 @@ fn image_cue(path: &Path, side_m: f64, centre: [f64; 2], rotation_deg: f64) -> S
 }
 
 /// The stage point (x, y) at the centre of pixel (i, j) of an orthographic
-/// front view (the outside contract: x = X0 + (i + 0.5)(X1 - X0)/W,
+/// front view (docs/conventions.md, "Viewport": x = X0 + (i + 0.5)(X1 - X0)/W,
 /// y = Y1 - (j + 0.5)(Y1 - Y0)/H).
 fn stage_xy(opts: &PreviewOptions, film: &Film, i: u32, j: u32) -> [f64; 2] {
     let v = opts.viewport.expect("a fixed viewport");
@@ -357,7 +357,7 @@ fn antispin_flower_keeps_a_painted_disc_where_it_was_placed() {
     assert!(off < 0.002, "centroid {c:?} is {off} m from {placed:?}");
 }
 
-/// Clock angle (degrees clockwise from straight up, as the contract reads
+/// Clock angle (degrees clockwise from straight up, as docs/conventions.md reads
 /// angles in the wall plane seen from the front) of the way from `a` to `b`.
 fn clock_deg(a: [f64; 2], b: [f64; 2]) -> f64 {
     glowscore::num::atan2(b[0] - a[0], b[1] - a[1]).to_degrees()
@@ -581,12 +581,12 @@ fn default_strip_glow_draws_a_lit_strip_as_an_even_band() {
 #[test]
 fn oversized_exposures_are_refused_before_the_work() {
     let big = "tether_m = 0.6\nstrip = { leds = 4000, from_m = 0.1, to_m = 0.58 }";
-    let text = show_text(big, ISOLATION, WHITE).replace("bars = [1, 2]", "bars = [1, 100]");
+    // 50 bars at 60 bpm and 1000 frames/s of 4000 LEDs: 8e8 LED-frames,
+    // fewer than a prepared show may have, more than the renderer walks.
+    let text = show_text(big, ISOLATION, WHITE).replace("bars = [1, 2]", "bars = [1, 50]");
     let s = setup(&text);
     let err = preview::shoot(
-        &s.show,
-        &s.motions,
-        &s.lights,
+        &s.prepared,
         &ortho([-1.0, 0.5, 1.0, 2.5], 100.0),
         &|_, _| {},
     )
@@ -605,8 +605,7 @@ fn oversized_exposures_are_refused_before_the_work() {
         viewport: Some([-0.5, 1.0, 0.5, 1.0625]),
         ..PreviewOptions::default()
     };
-    let err = preview::shoot(&s.show, &s.motions, &s.lights, &opts, &|_, _| {})
-        .expect_err("too many points");
+    let err = preview::shoot(&s.prepared, &opts, &|_, _| {}).expect_err("too many points");
     assert!(
         matches!(&err, PreviewError::TooLarge(m) if m.contains("points of light")),
         "{err}"
@@ -633,7 +632,7 @@ fn strip_painting_does_not_depend_on_the_thread_count() {
             .num_threads(n)
             .build()
             .unwrap()
-            .install(|| preview::render(&s.show, &s.motions, &s.lights, &opts).unwrap())
+            .install(|| preview::render(&s.prepared, &opts).unwrap())
     };
     let (a, b) = (on(1), on(3));
     assert_eq!(a.as_raw(), b.as_raw());

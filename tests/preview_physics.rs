@@ -3,8 +3,8 @@
 
 mod common;
 
+use glowscore::geom::{Mat3, Vec3};
 use glowscore::preview::{self, Film, Pinhole, PreviewOptions, Shutter, View};
-use nalgebra::{Matrix3, Vector3};
 use proptest::prelude::*;
 
 use common::{emitted, setup, shoot};
@@ -380,7 +380,7 @@ colours = ["white"]
             // Clock angle t: x = a sin t (right), y = a cos t (up), wall plane.
             let t = std::f64::consts::TAU * f64::from(k) / f64::from(n);
             let (x, y) = (a * glowscore::num::sin(t), 1.5 + a * glowscore::num::cos(t));
-            // Contract: column i covers x = X0 + (i + 0.5)(X1 - X0)/W.
+            // docs/conventions.md, "Viewport": column i covers x = X0 + (i + 0.5)(X1 - X0)/W.
             let i = (x - view[0]) / (view[2] - view[0]) * f64::from(w) - 0.5;
             let j = (view[3] - y) / (view[3] - view[1]) * f64::from(h) - 0.5;
             (i, j)
@@ -425,8 +425,8 @@ fn wheel_circle_from_a_seat_is_the_projected_ellipse() {
         1,
         "\"white\"",
     ));
-    let eye = Vector3::new(3.0, 1.7, 4.0);
-    let target = Vector3::new(0.0, 1.5, 0.0);
+    let eye = Vec3::new(3.0, 1.7, 4.0);
+    let target = Vec3::new(0.0, 1.5, 0.0);
     let (w, h, fov) = (320u32, 240u32, 20.0f64);
     let opts = PreviewOptions {
         size: Some((w, h)),
@@ -440,12 +440,12 @@ fn wheel_circle_from_a_seat_is_the_projected_ellipse() {
     let photo = shoot(&s, &opts);
     // Camera frame: forward to the target, right = forward x (+y), up = right x forward.
     let fwd = (target - eye).normalize();
-    let right = fwd.cross(&Vector3::y()).normalize();
+    let right = fwd.cross(&Vec3::y()).normalize();
     let up = right.cross(&fwd);
     let half = glowscore::num::rad(fov) / 2.0;
     let f = f64::from(h) / 2.0 * glowscore::num::cos(half) / glowscore::num::sin(half);
     // Picture rows grow downwards: v = h/2 - f y / z.
-    let k = Matrix3::new(
+    let k = Mat3::new(
         f,
         0.0,
         f64::from(w) / 2.0,
@@ -456,11 +456,11 @@ fn wheel_circle_from_a_seat_is_the_projected_ellipse() {
         0.0,
         1.0,
     );
-    let rot = Matrix3::from_rows(&[right.transpose(), up.transpose(), fwd.transpose()]);
+    let rot = Mat3::from_rows(&[right, up, fwd]);
     // Wheel plane: up = +y, right = +z; centre the anchor, radius the tether.
-    let (u1, u2) = (Vector3::y(), Vector3::z());
-    let hom = k * rot * Matrix3::from_columns(&[u1, u2, target - eye]);
-    let circle = Matrix3::from_diagonal(&Vector3::new(1.0, 1.0, -0.25));
+    let (u1, u2) = (Vec3::y(), Vec3::z());
+    let hom = k * rot * Mat3::from_columns(&[u1, u2, target - eye]);
+    let circle = Mat3::from_diagonal(&Vec3::new(1.0, 1.0, -0.25));
     let hinv = hom.try_inverse().expect("the plane is seen edge-off");
     let conic = hinv.transpose() * circle * hinv;
     let max = photo.film.max();
@@ -471,8 +471,8 @@ fn wheel_circle_from_a_seat_is_the_projected_ellipse() {
                 continue;
             }
             bright += 1;
-            let p = Vector3::new(f64::from(x) + 0.5, f64::from(y) + 0.5, 1.0);
-            let q = (p.transpose() * conic * p)[0];
+            let p = Vec3::new(f64::from(x) + 0.5, f64::from(y) + 0.5, 1.0);
+            let q = p.dot(&(conic * p));
             let g = conic * p;
             let dist = q.abs() / (2.0 * g.x.hypot(g.y));
             assert!(dist < 1.5, "pixel ({x}, {y}) is {dist} px off the ellipse");
@@ -572,7 +572,7 @@ fn picture_does_not_depend_on_the_thread_count() {
             .num_threads(n)
             .build()
             .unwrap()
-            .install(|| preview::render(&s.show, &s.motions, &s.lights, &opts).unwrap())
+            .install(|| preview::render(&s.prepared, &opts).unwrap())
     };
     let (a, b) = (on(1), on(3));
     assert_eq!(a.as_raw(), b.as_raw());

@@ -21,9 +21,10 @@ mod common;
 
 use std::f64::consts::{PI, TAU};
 
+use common::check_show;
 use glowscore::check::kin::{Kin, end_curves};
 use glowscore::check::tension::G0;
-use glowscore::check::{CheckReport, WarningKind, check_show};
+use glowscore::check::{CheckReport, WarningKind};
 use glowscore::model::Show;
 use glowscore::motion::PropMotion;
 
@@ -40,7 +41,11 @@ fn report(text: &str) -> CheckReport {
 }
 
 fn count(r: &CheckReport, kind: WarningKind) -> usize {
-    r.warnings.iter().filter(|w| w.kind == kind).count()
+    r.warnings
+        .iter()
+        .filter(|w| w.kind == kind)
+        .map(|w| w.count)
+        .sum()
 }
 
 /// The patterns the rigid-body test runs, as TOML keys (plane added later):
@@ -436,7 +441,8 @@ s = "b"
         .warnings
         .iter()
         .filter(|w| w.kind == WarningKind::Jump)
-        .collect();
+        .flat_map(|w| w.instances())
+        .collect::<Vec<_>>();
     assert_eq!(jumps.len(), 1);
     close(
         jumps[0].value.unwrap(),
@@ -507,7 +513,8 @@ fn staff_rods_that_cross_at_mid_length_collide_where_poi_would_not() {
         .warnings
         .iter()
         .filter(|w| w.kind == WarningKind::Collision)
-        .collect();
+        .flat_map(|w| w.instances())
+        .collect::<Vec<_>>();
     assert!(!hits.is_empty());
     assert!(
         hits[0].message.contains("a's staff and b's staff"),

@@ -89,7 +89,7 @@ fn hand_radius_equal_to_tether_with_m_minus_one_is_a_line_four_tethers_long() {
     let inner = count(&show, EventKind::Inner);
     assert_eq!(inner.len(), 2);
     for e in inner {
-        assert!((e.position_m - nalgebra::Vector3::new(0.0, 1.5, 0.0)).norm() < 1e-9);
+        assert!((e.position_m - glowscore::geom::Vec3::new(0.0, 1.5, 0.0)).norm() < 1e-9);
     }
 }
 
@@ -136,7 +136,7 @@ fn tempo_change_moves_every_later_beat_by_the_exact_amount() {
 
 #[test]
 fn mirrored_placements_read_clock_angles_on_the_mirrored_clock() {
-    // Contract: mirror reverses the sense of the plane's clock (right -> -right),
+    // docs/conventions.md, "Motion": mirror reverses the plane's clock (right -> -right),
     // and angle events of that placement are read on the mirrored clock.
     let text = |mirror: bool| {
         format!(

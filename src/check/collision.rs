@@ -10,9 +10,9 @@
 //! distances are sampled on the beat axis (64 samples per turn of the
 //! fastest term, doubled for relative motion) and every sampled minimum is
 //! refined by golden-section search to 1e-12 beats. Props at rest are not
-//! checked (the brief: only while both move).
+//! checked (`docs/conventions.md`, "Check JSON": only while both move).
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 
 use super::CheckSettings;
 use super::kin::{sample_count, samples_needed};
@@ -23,12 +23,7 @@ use crate::motion::{Curve, PropMotion, Span};
 
 /// Shortest distance between the segments `p1`-`q1` and `p2`-`q2`, metres
 /// (C. Ericson, Real-Time Collision Detection, 2005, section 5.1.9).
-pub fn segment_distance(
-    p1: Vector3<f64>,
-    q1: Vector3<f64>,
-    p2: Vector3<f64>,
-    q2: Vector3<f64>,
-) -> f64 {
+pub fn segment_distance(p1: Vec3, q1: Vec3, p2: Vec3, q2: Vec3) -> f64 {
     let (d1, d2, r) = (q1 - p1, q2 - p2, p1 - p2);
     let (a, e, f) = (d1.dot(&d1), d2.dot(&d2), d2.dot(&r));
     let tiny = 1e-24;
@@ -71,16 +66,16 @@ pub fn segment_distance(
 /// A prop's capsule and heads, stage coordinates, at one instant.
 struct Pose {
     /// Where the capsule's segment starts: a poi's hand, a staff's tail end.
-    start: Vector3<f64>,
+    start: Vec3,
     /// The head (end) centre, where the segment ends.
-    head: Vector3<f64>,
+    head: Vec3,
     /// True when `start` is a staff's tail end, a head too.
     start_is_head: bool,
 }
 
 impl Pose {
     /// The head centres: the head, and a staff's tail end.
-    fn heads(&self) -> impl Iterator<Item = Vector3<f64>> + '_ {
+    fn heads(&self) -> impl Iterator<Item = Vec3> + '_ {
         std::iter::once(self.head).chain(self.start_is_head.then_some(self.start))
     }
 }
@@ -224,6 +219,12 @@ pub fn scan_pair(
             };
             Warning {
                 kind: WarningKind::Collision,
+                count: 1,
+                bars: [0, 0],
+                line: None,
+                cue: None,
+            each: Vec::new(),
+            expected: None,
                 prop: na.clone(),
                 other_prop: Some(nb.clone()),
                 at: When::at_beat(show, s.start),
@@ -252,8 +253,8 @@ pub fn scan_pair(
 mod tests {
     use super::*;
 
-    fn v(x: f64, y: f64, z: f64) -> Vector3<f64> {
-        Vector3::new(x, y, z)
+    fn v(x: f64, y: f64, z: f64) -> Vec3 {
+        Vec3::new(x, y, z)
     }
 
     #[test]

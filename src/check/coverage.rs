@@ -533,6 +533,12 @@ fn warning(
     }
     Warning {
         kind: WarningKind::Coverage,
+        count: 1,
+        bars: [0, 0],
+        line: None,
+        cue: None,
+        each: Vec::new(),
+        expected: None,
         prop: name.clone(),
         other_prop: None,
         at: When::at_beat(show, start),
@@ -624,6 +630,7 @@ mod tests {
             },
         };
         show.cues.push(crate::model::Cue {
+            offset: 0,
             prop: 0,
             first_bar: 1,
             last_bar: 1,

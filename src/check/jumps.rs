@@ -10,7 +10,7 @@
 //! poi's head, a staff's head end and tail end); the warning gives the end
 //! that jumps furthest, by name.
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 
 use super::kin::{end_curves, end_name, show_end_beat};
 use super::report::{Warning, WarningKind, When};
@@ -21,12 +21,7 @@ use crate::motion::PropMotion;
 /// [`crate::model::Prop::ends_m`]: head end first) just before (`after =
 /// false`) or just after the global beat `beat`, with the name of what the
 /// prop does there.
-fn side(
-    show: &Show,
-    motion: &PropMotion,
-    beat: f64,
-    after: bool,
-) -> (Vector3<f64>, Vec<Vector3<f64>>, String) {
+fn side(show: &Show, motion: &PropMotion, beat: f64, after: bool) -> (Vec3, Vec<Vec3>, String) {
     let span = motion.spans.iter().find(|s| {
         if after {
             s.start_beat == beat
@@ -108,6 +103,12 @@ pub fn jumps(show: &Show, motion: &PropMotion, limit_m: f64) -> Vec<Warning> {
             }
             out.push(Warning {
                 kind: WarningKind::Jump,
+                count: 1,
+                bars: [0, 0],
+                line: None,
+                cue: None,
+            each: Vec::new(),
+            expected: None,
                 prop: name.clone(),
                 other_prop: None,
                 at,

@@ -9,7 +9,7 @@
 //! `tail_m` the other way ([`crate::model::Prop::ends_m`]). The checks scan
 //! every end with the same [`Kin`]: its `head` is the end being scanned.
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 
 use crate::model::Show;
 use crate::motion::{Curve, PropMotion, Span};
@@ -19,10 +19,10 @@ use crate::motion::{Curve, PropMotion, Span};
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Kin {
     /// Hand: position, velocity, acceleration, jerk.
-    pub hand: [Vector3<f64>; 4],
+    pub hand: [Vec3; 4],
     /// The end scanned (a poi's head; a staff's head end or tail end):
     /// position, velocity, acceleration, jerk.
-    pub head: [Vector3<f64>; 4],
+    pub head: [Vec3; 4],
 }
 
 /// Position and first three derivatives against phase u of a sum of rotating
@@ -31,13 +31,13 @@ pub fn jet3(curve: &Curve, u: f64) -> [[f64; 2]; 4] {
     curve.derivatives(u)
 }
 
-fn to_stage(span: &Span, j: [[f64; 2]; 4], rate: f64) -> [Vector3<f64>; 4] {
+fn to_stage(span: &Span, j: [[f64; 2]; 4], rate: f64) -> [Vec3; 4] {
     let mut k = 1.0;
     let mut out = [
         span.to_stage(j[0]),
-        Vector3::zeros(),
-        Vector3::zeros(),
-        Vector3::zeros(),
+        Vec3::zeros(),
+        Vec3::zeros(),
+        Vec3::zeros(),
     ];
     for n in 1..4 {
         k *= rate;
@@ -63,11 +63,11 @@ impl Kin {
     /// metres from the grip along the prop's direction, which points straight
     /// down: the head end hangs below the anchor, a staff's tail end
     /// (`along_m < 0`) stands above it.
-    pub fn resting_end(anchor: Vector3<f64>, along_m: f64) -> Kin {
-        let z = Vector3::zeros();
+    pub fn resting_end(anchor: Vec3, along_m: f64) -> Kin {
+        let z = Vec3::zeros();
         Kin {
             hand: [anchor, z, z, z],
-            head: [anchor - Vector3::new(0.0, along_m, 0.0), z, z, z],
+            head: [anchor - Vec3::new(0.0, along_m, 0.0), z, z, z],
         }
     }
 }

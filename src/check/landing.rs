@@ -126,6 +126,12 @@ pub fn scan(
                 .map_or_else(|| "a higher frame rate".to_string(), |f| format!("{f} Hz"));
             warnings.push(Warning {
                 kind: WarningKind::Landing,
+                count: 1,
+                bars: [0, 0],
+                line: None,
+                cue: None,
+            each: Vec::new(),
+            expected: None,
                 prop: entry.prop.clone(),
                 other_prop: None,
                 at: When::at_beat(show, show.tempo.beat_at_time(w.event_s)),

@@ -41,6 +41,8 @@ use super::report::{PropFigures, Warning, WarningKind, When, r9};
 use crate::cues::{self, Lights};
 use crate::flash::{FlashAnalyser, FlashReport, MAX_FLASHES};
 use crate::model::Show;
+use crate::power::brightness_scale;
+use crate::power::current_of_sum;
 
 /// The prop name that stage-wide flash warnings carry.
 pub const STAGE: &str = "(stage)";
@@ -120,38 +122,6 @@ pub struct LightScan {
     pub stage_flash: Option<FlashFigures>,
     /// Flash and current warnings, unsorted.
     pub warnings: Vec<Warning>,
-}
-
-/// Current of one frame of a prop whose `leds` LEDs all show `bytes`,
-/// amperes: `leds x (r + g + b) / 255 x channel + idle`.
-pub fn frame_current_a(bytes: [u8; 3], leds: u32, channel_a: f64, idle_a: f64) -> f64 {
-    let sum = u32::from(bytes[0]) + u32::from(bytes[1]) + u32::from(bytes[2]);
-    current_of_sum(u64::from(leds) * u64::from(sum), channel_a, idle_a)
-}
-
-/// Current of a frame whose LED bytes add up to `byte_sum` (every channel of
-/// every LED), amperes.
-fn current_of_sum(byte_sum: u64, channel_a: f64, idle_a: f64) -> f64 {
-    byte_sum as f64 / 255.0 * channel_a + idle_a
-}
-
-/// The brightness scale (0..=1) that keeps a prop's peak current within
-/// `max_a`, amperes, given its peak current `peak_a` with the current tables.
-///
-/// The LED part `peak_a - idle` is scaled; half a byte per channel of every
-/// LED is kept in hand for rounding the scaled values to bytes. 1 when the
-/// peak is already within the limit; 0 when even dark LEDs exceed it.
-pub fn brightness_scale(peak_a: f64, max_a: f64, leds: u32, channel_a: f64, idle_a: f64) -> f64 {
-    if peak_a <= max_a {
-        return 1.0;
-    }
-    let led_peak = peak_a - idle_a;
-    let rounding = f64::from(leds) * 3.0 * channel_a * 0.5 / 255.0;
-    let room = max_a - idle_a - rounding;
-    if led_peak <= 0.0 || room <= 0.0 {
-        return 0.0;
-    }
-    (room / led_peak).clamp(0.0, 1.0)
 }
 
 /// A stretch of frames over the current limit: first frame, one past the
@@ -284,6 +254,12 @@ impl LightTally {
                     let start = o.first as f64 / rate;
                     warnings.push(Warning {
                         kind: WarningKind::Current,
+                        count: 1,
+                        bars: [0, 0],
+                        line: None,
+                        cue: None,
+            each: Vec::new(),
+            expected: None,
                         prop: prop.name.clone(),
                         other_prop: None,
                         at: when(start),
@@ -377,6 +353,12 @@ fn flash_warnings(
     for w in &report.windows {
         out.push(Warning {
             kind: WarningKind::Flash,
+            count: 1,
+            bars: [0, 0],
+            line: None,
+            cue: None,
+            each: Vec::new(),
+            expected: None,
             prop: name.to_string(),
             other_prop: None,
             at: when(w.start_s),

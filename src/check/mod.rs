@@ -27,6 +27,7 @@
 //! the analytic derivative to 1e-12 beats; distances between props are
 //! refined by golden-section search to 1e-12 beats (see [`search`]).
 
+mod cautions;
 pub mod collision;
 pub mod coverage;
 pub mod hardware;
@@ -34,22 +35,24 @@ pub mod jumps;
 pub mod kin;
 pub mod landing;
 pub mod light;
+mod overlap;
 pub mod prop;
 pub mod reach;
 pub mod report;
 pub mod search;
 pub mod spin;
 pub mod tension;
+mod text;
+mod warnings;
 
 pub use report::{CheckReport, EndFigures, PairFigures, PropFigures, Warning, WarningKind, When};
 
 use rayon::prelude::*;
 
-use crate::cues::{self, Lights};
-use crate::events;
 use crate::model::Show;
-use crate::motion::{PropMotion, simulate};
+use crate::motion::PropMotion;
 use crate::output::FrameWriter;
+use crate::prepared::Prepared;
 
 /// The limits and search density the checks use.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -65,6 +68,15 @@ pub struct CheckSettings {
     /// A cue whose colour changes land further than this from their events
     /// warns, millimetres of head travel.
     pub tolerance_mm: f64,
+}
+
+impl CheckSettings {
+    /// The jump that warns, metres: `jump_limit_m`, and never less than the
+    /// landing tolerance (a head that jumps less than a colour change may
+    /// land off is not worth a warning of its own).
+    pub fn jump_limit(&self) -> f64 {
+        self.jump_limit_m.max(self.tolerance_mm / 1000.0)
+    }
 }
 
 impl Default for CheckSettings {
@@ -84,59 +96,48 @@ impl Default for CheckSettings {
 /// million).
 pub const MAX_SAMPLES: f64 = 2e8;
 
-/// The most LED-frames (frames times LEDs, every prop together) the light
-/// figures are read from: about ten seconds of work in release, and more
-/// than the tables `compile` writes (2 GiB of them, 7.2e8 LED-frames).
-pub const MAX_LED_FRAMES: f64 = 1e9;
-
 /// Why a show could not be checked.
-#[derive(Clone, Debug, PartialEq)]
+#[derive(Clone, Debug, PartialEq, thiserror::Error)]
 pub enum CheckError {
     /// The searches would need more than [`MAX_SAMPLES`] samples (or a
     /// pattern turns so fast that the count is not finite).
+    #[error(
+        "checking this show would take {samples:.3e} samples, more than the limit of {MAX_SAMPLES:.0e}: the show is too long or its patterns turn too fast"
+    )]
     TooMuchWork {
         /// Sample intervals needed.
         samples: f64,
     },
     /// The picture coverage would need more than
     /// [`coverage::MAX_TEXEL_TESTS`] texel tests.
+    #[error(
+        "checking how much of the pictures the LEDs reach would take {tests:.3e} texel tests, more than the limit of {max:.0e} (cue {cue} needs the most): use fewer LEDs, a lower frame rate or shorter painting cues",
+        max = coverage::MAX_TEXEL_TESTS
+    )]
     TooMuchPainting {
         /// The cue that needs the most, index from 0 in file order.
         cue: usize,
         /// Texel tests needed over the show.
         tests: f64,
     },
-    /// The show has more than [`MAX_LED_FRAMES`] LED-frames to read.
-    TooManyFrames {
-        /// Frames times LEDs, every prop together.
-        led_frames: f64,
-    },
 }
 
-impl std::fmt::Display for CheckError {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        match self {
-            CheckError::TooMuchWork { samples } => write!(
-                f,
-                "checking this show would take {samples:.3e} samples, more than the limit of {MAX_SAMPLES:.0e}: the show is too long or its patterns turn too fast"
-            ),
-            CheckError::TooMuchPainting { cue, tests } => write!(
-                f,
-                "checking how much of the pictures the LEDs reach would take {tests:.3e} texel tests, more than the limit of {:.0e} (cue {cue} needs the most): use fewer LEDs, a lower frame rate or shorter painting cues",
-                coverage::MAX_TEXEL_TESTS
-            ),
-            CheckError::TooManyFrames { led_frames } => write!(
-                f,
-                "the show has {led_frames:.3e} LED-frames (frames times LEDs) to check, more than the limit of {MAX_LED_FRAMES:.0e}: lower `show.frame_rate`, shorten the show or use fewer LEDs"
-            ),
-        }
-    }
+/// Checks the prepared show: physics, stage, light, hardware, landing and
+/// picture coverage, with `settings`; refuses a show whose checks would need
+/// more than [`MAX_SAMPLES`] samples or [`coverage::MAX_TEXEL_TESTS`]
+/// texel tests, before any of the work. The frames are read while the
+/// motion is checked.
+pub fn check(prepared: &Prepared, settings: &CheckSettings) -> Result<CheckReport, CheckError> {
+    within_budget(prepared, settings)?;
+    let (frames, motion) = rayon::join(
+        || frame_figures(prepared),
+        || motion_figures(prepared, settings),
+    );
+    Ok(report_of(prepared, motion?, frames, settings))
 }
-
-impl std::error::Error for CheckError {}
 
 /// Sample intervals the checks of `show` need, over all searches.
-pub fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSettings) -> f64 {
+fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSettings) -> f64 {
     let mut total = 0.0;
     for m in motions {
         let p = &show.props[m.prop];
@@ -163,19 +164,14 @@ pub fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSetti
 /// Refuses a show whose checks would need more than [`MAX_SAMPLES`] samples,
 /// or whose picture coverage would need more than
 /// [`coverage::MAX_TEXEL_TESTS`] texel tests.
-pub fn within_budget(
-    show: &Show,
-    motions: &[PropMotion],
+pub(crate) fn within_budget(
+    prepared: &Prepared,
     settings: &CheckSettings,
 ) -> Result<(), CheckError> {
+    let (show, motions) = (prepared.show(), prepared.motions());
     let samples = samples_needed(show, motions, settings);
     if samples.is_nan() || samples > MAX_SAMPLES {
         return Err(CheckError::TooMuchWork { samples });
-    }
-    let leds: f64 = show.props.iter().map(|p| f64::from(p.leds)).sum();
-    let led_frames = show.frame_count() as f64 * leds;
-    if led_frames > MAX_LED_FRAMES {
-        return Err(CheckError::TooManyFrames { led_frames });
     }
     coverage::within_budget(show, motions).map_err(painting_error)
 }
@@ -187,28 +183,9 @@ fn painting_error(e: coverage::TooMuchPainting) -> CheckError {
     }
 }
 
-/// Checks `show` with the default settings: physics, light and landing.
-pub fn check_show(show: &Show) -> Result<CheckReport, CheckError> {
-    check(show, &simulate(show), &CheckSettings::default())
-}
-
-/// Checks `show`, whose motion is `motions` (from [`simulate`]): finds the
-/// events and places the cues itself, then runs [`check_with_lights`].
-pub fn check(
-    show: &Show,
-    motions: &[PropMotion],
-    settings: &CheckSettings,
-) -> Result<CheckReport, CheckError> {
-    // Refuse too much work before finding events and placing cues.
-    within_budget(show, motions, settings)?;
-    let found = events::find_events(show, motions);
-    let lights = cues::place(show, motions, &found);
-    checked(show, motions, &lights, settings)
-}
-
 /// What the checks read off the frame tables.
 #[derive(Clone, Debug)]
-pub struct FrameFigures {
+pub(crate) struct FrameFigures {
     /// Flash, current and battery figures.
     pub light: light::LightScan,
     /// Size of each prop's compact table, bytes, in prop order (`None`
@@ -216,38 +193,38 @@ pub struct FrameFigures {
     pub compact_table_bytes: Vec<Option<u64>>,
 }
 
-/// One pass over every frame of every prop in `lights`: the light figures
-/// and the size of each compact table.
-pub fn frame_figures(show: &Show, lights: &Lights) -> FrameFigures {
+/// One pass over every frame of every prop: the light figures and the size
+/// of each compact table.
+fn frame_figures(prepared: &Prepared) -> FrameFigures {
+    let (show, lights) = (prepared.show(), prepared.lights());
     let mut tally = light::LightTally::new(show);
     let mut counters: Vec<_> = (0..show.props.len())
         .map(|i| hardware::compact_counter(show, i))
         .collect();
-    let result: Result<(), std::convert::Infallible> =
-        cues::for_each_block(show, lights, show.frame_count(), |_, n, blocks| {
-            rayon::join(
-                || {
-                    if let Some(t) = tally.as_mut() {
-                        t.push_block(show, lights, n, blocks);
-                    }
-                },
-                || {
-                    counters
-                        .par_iter_mut()
-                        .zip(blocks)
-                        .zip(&lights.props)
-                        .for_each(|((c, block), pl)| {
-                            let leds = pl.leds as usize;
-                            for frame in block[..n * leds].chunks(leds) {
-                                if c.as_mut().is_some_and(|w| w.push_frame(frame).is_err()) {
-                                    *c = None;
-                                }
+    let result: Result<(), std::convert::Infallible> = prepared.for_each_block(|_, n, blocks| {
+        rayon::join(
+            || {
+                if let Some(t) = tally.as_mut() {
+                    t.push_block(show, lights, n, blocks);
+                }
+            },
+            || {
+                counters
+                    .par_iter_mut()
+                    .zip(blocks)
+                    .zip(&lights.props)
+                    .for_each(|((c, block), pl)| {
+                        let leds = pl.leds as usize;
+                        for frame in block[..n * leds].chunks(leds) {
+                            if c.as_mut().is_some_and(|w| w.push_frame(frame).is_err()) {
+                                *c = None;
                             }
-                        });
-                },
-            );
-            Ok(())
-        });
+                        }
+                    });
+            },
+        );
+        Ok(())
+    });
     let Ok(()) = result;
     FrameFigures {
         light: tally.map_or_else(light::LightScan::default, |t| t.finish(show)),
@@ -258,39 +235,11 @@ pub fn frame_figures(show: &Show, lights: &Lights) -> FrameFigures {
     }
 }
 
-/// Checks `show`, whose motion is `motions` and whose cues are placed as
-/// `lights` (from [`cues::place`], for callers that have them already);
-/// refuses a show that would need more than [`MAX_SAMPLES`] samples.
-pub fn check_with_lights(
-    show: &Show,
-    motions: &[PropMotion],
-    lights: &Lights,
-    settings: &CheckSettings,
-) -> Result<CheckReport, CheckError> {
-    within_budget(show, motions, settings)?;
-    checked(show, motions, lights, settings)
-}
-
-/// [`check_with_lights`] for a show already within the budget: the frames
-/// are read while the motion is checked.
-fn checked(
-    show: &Show,
-    motions: &[PropMotion],
-    lights: &Lights,
-    settings: &CheckSettings,
-) -> Result<CheckReport, CheckError> {
-    let (frames, motion) = rayon::join(
-        || frame_figures(show, lights),
-        || motion_figures_within(show, motions, settings),
-    );
-    Ok(report_of(show, lights, motion?, frames, settings))
-}
-
 /// The figures that come from the motion alone, before any frame is read:
 /// each prop's physics and reach, the pairs' closest approaches, jumps and
 /// picture coverage (see [`motion_figures`]).
 #[derive(Clone, Debug)]
-pub struct MotionFigures {
+pub(crate) struct MotionFigures {
     /// Whether any prop moves at all (the stage figures need one).
     any: bool,
     centre: [f64; 2],
@@ -305,23 +254,14 @@ pub struct MotionFigures {
 }
 
 /// The checks that need only the motion (the compile runs them while it
-/// writes the tables); refuses a show over the budget ([`within_budget`]).
-pub fn motion_figures(
-    show: &Show,
-    motions: &[PropMotion],
+/// writes the tables), for a show already within the budget
+/// ([`within_budget`]; the coverage pass still refuses its own part, which it
+/// plans anyway).
+pub(crate) fn motion_figures(
+    prepared: &Prepared,
     settings: &CheckSettings,
 ) -> Result<MotionFigures, CheckError> {
-    within_budget(show, motions, settings)?;
-    motion_figures_within(show, motions, settings)
-}
-
-/// [`motion_figures`] for a show already found within the budget (the
-/// coverage pass still refuses its own part, which it plans anyway).
-pub(crate) fn motion_figures_within(
-    show: &Show,
-    motions: &[PropMotion],
-    settings: &CheckSettings,
-) -> Result<MotionFigures, CheckError> {
+    let (show, motions) = (prepared.show(), prepared.motions());
     let centre = reach::centre_line(show);
     let (scans, painted) = rayon::join(
         || -> Vec<prop::PropScan> {
@@ -352,7 +292,7 @@ pub(crate) fn motion_figures_within(
         props.push(s.figures);
     }
     for m in motions {
-        warnings.extend(jumps::jumps(show, m, settings.jump_limit_m));
+        warnings.extend(jumps::jumps(show, m, settings.jump_limit()));
     }
     Ok(MotionFigures {
         any: !motions.is_empty(),
@@ -367,23 +307,9 @@ pub(crate) fn motion_figures_within(
     })
 }
 
-/// Like [`check_with_lights`], with the figures of the frames already read
-/// (the compile gathers them while it writes the tables).
-pub fn check_with_frames(
-    show: &Show,
-    motions: &[PropMotion],
-    lights: &Lights,
-    frames: FrameFigures,
-    settings: &CheckSettings,
-) -> Result<CheckReport, CheckError> {
-    let motion = motion_figures(show, motions, settings)?;
-    Ok(report_of(show, lights, motion, frames, settings))
-}
-
 /// The whole report from the motion's figures and the frames' figures.
-pub fn report_of(
-    show: &Show,
-    lights: &Lights,
+pub(crate) fn report_of(
+    prepared: &Prepared,
     motion: MotionFigures,
     frames: FrameFigures,
     settings: &CheckSettings,
@@ -399,11 +325,15 @@ pub fn report_of(
         paintings,
         coverage_warnings,
     } = motion;
+    let (show, lights) = (prepared.show(), prepared.lights());
     let light_scan = frames.light;
     for (pl, figures) in lights.props.iter().zip(&light_scan.props) {
         let name = &show.props[pl.prop].name;
         if let Some(p) = props.iter_mut().find(|p| &p.name == name) {
             figures.fill(p);
+            // The scale the prepared show applied (the frames read here are
+            // already dimmed, so they would call for none).
+            p.brightness_scale = prepared.brightness_scale(pl.prop);
         }
     }
     warnings.extend(light_scan.warnings);
@@ -419,8 +349,16 @@ pub fn report_of(
         }
     }
     warnings.extend(hardware_warnings);
+    // Only the changes that play count: a later cue may hide an earlier one.
+    let playing: Vec<_> = lights
+        .landings
+        .iter()
+        .filter(|l| lights.props[l.prop].plays(l.cue, l.frame))
+        .cloned()
+        .collect();
     let (cue_landings, landing_summary, landing_warnings) =
-        landing::scan(show, &lights.landings, settings.tolerance_mm);
+        landing::scan(show, &playing, settings.tolerance_mm);
+    warnings.extend(overlap::scan(show, lights));
     warnings.extend(landing_warnings);
     warnings.extend(coverage_warnings);
     let start = show.tempo.start_s();
@@ -433,7 +371,7 @@ pub fn report_of(
         stage: any.then(|| reach::stage(centre, &hands, &heads, settings.clear_margin_m)),
         limits: Some(report::Limits {
             spin_rate_turns_per_s: settings.spin_limit_turns_per_s,
-            jump_m: settings.jump_limit_m,
+            jump_m: settings.jump_limit(),
             gravity_m_s2: tension::G0,
         }),
         stage_flash: light_scan.stage_flash,
@@ -442,8 +380,9 @@ pub fn report_of(
         paintings,
         warnings,
         errors: Vec::new(),
-        cautions: report::CAUTIONS.to_vec(),
+        cautions: Vec::new(),
     };
-    report.finish();
+    report.finish(show);
+    report.cautions = cautions::cautions(show, &report.props);
     report
 }

@@ -11,7 +11,7 @@
 //! Two extrema closer together than one sample step could share a bracket
 //! and hide each other; the samples themselves still bound the figure.
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 
 use super::CheckSettings;
 use super::kin::{
@@ -172,6 +172,12 @@ pub fn scan_prop(
         let (t, at) = s.figure;
         warnings.push(Warning {
             kind: WarningKind::Slack,
+            count: 1,
+            bars: [0, 0],
+            line: None,
+            cue: None,
+            each: Vec::new(),
+            expected: None,
             prop: name.clone(),
             other_prop: None,
             at: When::at_beat(show, s.start),
@@ -192,6 +198,12 @@ pub fn scan_prop(
             let dur = seconds(s.start, s.end);
             warnings.push(Warning {
                 kind: WarningKind::SpinRate,
+                count: 1,
+                bars: [0, 0],
+                line: None,
+                cue: None,
+            each: Vec::new(),
+            expected: None,
                 prop: name.clone(),
                 other_prop: None,
                 at: When::at_beat(show, s.start),
@@ -211,8 +223,8 @@ pub fn scan_prop(
     let min = |q: usize| total[q].min.map_or(0.0, |m| m.0);
     let r = prop.head_radius_m;
     let axis = |first: usize| {
-        let lo = Vector3::new(min(first), min(first + 1), min(first + 2));
-        let hi = Vector3::new(max(first), max(first + 1), max(first + 2));
+        let lo = Vec3::new(min(first), min(first + 1), min(first + 2));
+        let hi = Vec3::new(max(first), max(first + 1), max(first + 2));
         (lo, hi)
     };
     let (head_lo, head_hi) = axis(Q_HEAD);

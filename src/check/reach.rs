@@ -6,7 +6,7 @@
 //! the head radius) over the show, rest included; the clear space adds a
 //! margin on every side.
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 
 use super::kin::Kin;
 use super::report::{Rect, Stage};
@@ -26,7 +26,7 @@ pub fn centre_line(show: &Show) -> [f64; 2] {
 }
 
 /// Squared distance of the head from `anchor` (m^2), and its time derivative.
-pub fn anchor_distance_sq(anchor: Vector3<f64>, k: &Kin) -> (f64, f64) {
+pub fn anchor_distance_sq(anchor: Vec3, k: &Kin) -> (f64, f64) {
     let d = k.head[0] - anchor;
     (d.norm_squared(), 2.0 * d.dot(&k.head[1]))
 }
@@ -45,23 +45,23 @@ pub fn centre_distance_sq(centre: [f64; 2], k: &Kin) -> (f64, f64) {
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Bounds {
     /// Smallest x, y, z seen.
-    pub min: Vector3<f64>,
+    pub min: Vec3,
     /// Largest x, y, z seen.
-    pub max: Vector3<f64>,
+    pub max: Vec3,
 }
 
 impl Default for Bounds {
     fn default() -> Self {
         Bounds {
-            min: Vector3::repeat(f64::INFINITY),
-            max: Vector3::repeat(f64::NEG_INFINITY),
+            min: Vec3::repeat(f64::INFINITY),
+            max: Vec3::repeat(f64::NEG_INFINITY),
         }
     }
 }
 
 impl Bounds {
     /// Grows the box to hold `lo` and `hi` (per coordinate).
-    pub fn include(&mut self, lo: Vector3<f64>, hi: Vector3<f64>) {
+    pub fn include(&mut self, lo: Vec3, hi: Vec3) {
         self.min = self.min.inf(&lo);
         self.max = self.max.sup(&hi);
     }

@@ -43,6 +43,8 @@ pub enum WarningKind {
     Drift,
     /// A painting cue's LEDs pass too little of its picture.
     Coverage,
+    /// A later cue on the same prop hides some of a cue's frames.
+    Overlap,
 }
 
 impl WarningKind {
@@ -60,6 +62,7 @@ impl WarningKind {
             WarningKind::Memory => "memory",
             WarningKind::Drift => "drift",
             WarningKind::Coverage => "coverage",
+            WarningKind::Overlap => "overlap",
         }
     }
 }
@@ -141,6 +144,70 @@ pub struct Warning {
     pub unit: Option<&'static str>,
     /// A readable sentence.
     pub message: String,
+    /// How many times it happened in the stretch (repeats are grouped).
+    pub count: usize,
+    /// First and last bar of the stretch.
+    pub bars: [i64; 2],
+    /// The line of the show file behind it (the section, cue or prop).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub line: Option<usize>,
+    /// The cue it is about, index from 0 in file order, where it is one
+    /// cue's.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cue: Option<usize>,
+    /// Why the show expects it (its `[[expected]]` entry), when it does: an
+    /// expected warning is reported all the same, and `--deny-warnings`
+    /// passes over it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub expected: Option<String>,
+    /// Each time it happened, when it happened more than once.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub each: Vec<Instance>,
+}
+
+/// One time a grouped warning happened.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct Instance {
+    /// Where it starts.
+    #[serde(flatten)]
+    pub at: When,
+    /// How long it lasts, seconds (none for an instant).
+    #[serde(serialize_with = "r9_opt", skip_serializing_if = "Option::is_none")]
+    pub duration_s: Option<f64>,
+    /// The figure at fault, in the warning's unit.
+    #[serde(serialize_with = "r9_opt", skip_serializing_if = "Option::is_none")]
+    pub value: Option<f64>,
+}
+
+impl Warning {
+    /// Every time it happened, each as a warning of its own (itself, when it
+    /// happened once).
+    pub fn instances(&self) -> Vec<Warning> {
+        if self.each.is_empty() {
+            return vec![self.clone()];
+        }
+        self.each
+            .iter()
+            .map(|i| Warning {
+                at: i.at,
+                duration_s: i.duration_s,
+                value: i.value,
+                count: 1,
+                bars: [i.at.bar, i.at.bar],
+                each: Vec::new(),
+                expected: None,
+                ..self.clone()
+            })
+            .collect()
+    }
+
+    pub(crate) fn instance(&self) -> Instance {
+        Instance {
+            at: self.at,
+            duration_s: self.duration_s,
+            value: self.value,
+        }
+    }
 }
 
 /// The physics figures of one prop over the whole show (bar 1 beat 1 to the
@@ -424,7 +491,7 @@ pub struct CheckReport {
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub errors: Vec<ErrorEntry>,
     /// The usual safety cautions, one sentence each.
-    pub cautions: Vec<&'static str>,
+    pub cautions: Vec<String>,
 }
 
 fn props_as_map<S: Serializer>(props: &[PropFigures], s: S) -> Result<S::Ok, S::Error> {
@@ -435,19 +502,18 @@ fn props_as_map<S: Serializer>(props: &[PropFigures], s: S) -> Result<S::Ok, S::
     m.end()
 }
 
-/// The cautions that end every report.
-pub const CAUTIONS: [&str; 5] = [
-    "Keep clear space around spinning props (at least the rectangle above) and check the venue's rules on distances to the audience.",
-    "Warn audiences about flashing light beforehand, and avoid flashing between 3 and 60 times per second near the audience.",
-    "The flash counts apply the W3C WCAG 2.x general and red flash thresholds, which were written for screens; for props they are a conservative guide, not a certification.",
-    "Charge, carry and store lithium batteries as their maker says.",
-    "These figures come from a model: local codes, the venue and the LED and battery data sheets take precedence.",
-];
-
 impl CheckReport {
+    /// The warnings the show does not expect.
+    pub fn unexpected_warnings(&self) -> usize {
+        self.warnings
+            .iter()
+            .filter(|w| w.expected.is_none())
+            .count()
+    }
+
     /// The report of an invalid show: `valid = false` and its errors.
     pub fn invalid(diags: &crate::diag::Diagnostics) -> CheckReport {
-        let errors = diags
+        let errors: Vec<ErrorEntry> = diags
             .0
             .iter()
             .map(|d| {
@@ -460,6 +526,21 @@ impl CheckReport {
                 }
             })
             .collect();
+        CheckReport::with_errors(errors)
+    }
+
+    /// The report of a valid show refused as too much work: `valid = false`
+    /// and the reason as its one error.
+    pub fn refused(message: String) -> CheckReport {
+        CheckReport::with_errors(vec![ErrorEntry {
+            message,
+            key: None,
+            line: None,
+            column: None,
+        }])
+    }
+
+    fn with_errors(errors: Vec<ErrorEntry>) -> CheckReport {
         CheckReport {
             valid: false,
             title: String::new(),
@@ -474,7 +555,7 @@ impl CheckReport {
             paintings: Vec::new(),
             warnings: Vec::new(),
             errors,
-            cautions: CAUTIONS.to_vec(),
+            cautions: Vec::new(),
         }
     }
 
@@ -483,15 +564,16 @@ impl CheckReport {
         self.props.iter_mut().find(|p| p.name == name)
     }
 
-    /// Sorts the warnings by time, then kind, then prop (call after adding).
-    pub fn finish(&mut self) {
-        self.warnings.sort_by(|a, b| {
-            a.at.time_s
-                .total_cmp(&b.at.time_s)
-                .then(a.kind.cmp(&b.kind))
-                .then(a.prop.cmp(&b.prop))
-                .then(a.other_prop.cmp(&b.other_prop))
-        });
+    /// Groups repeated warnings, locates them in the show file and sorts
+    /// them by time, then kind, then prop (call after adding).
+    pub(crate) fn finish(&mut self, show: &Show) {
+        let mut raw = std::mem::take(&mut self.warnings);
+        for w in &mut raw {
+            if w.bars == [0, 0] {
+                w.bars = [w.at.bar, w.at.bar];
+            }
+        }
+        self.warnings = super::warnings::gather(show, raw);
     }
 
     /// Writes the report as pretty JSON and a newline.
@@ -499,310 +581,4 @@ impl CheckReport {
         serde_json::to_writer_pretty(&mut *out, self)?;
         writeln!(out)
     }
-
-    /// Writes the report as readable text, ending with the cautions.
-    pub fn write_text(&self, out: &mut dyn Write) -> io::Result<()> {
-        if !self.valid {
-            writeln!(out, "The show is invalid ({} errors).", self.errors.len())?;
-            return Ok(());
-        }
-        writeln!(
-            out,
-            "Check of \"{}\": {:.3} s from bar 1 beat 1 to the end",
-            self.title, self.duration_s
-        )?;
-        for p in &self.props {
-            write_prop(out, p)?;
-        }
-        if !self.pairs.is_empty() {
-            writeln!(out, "\nPairs")?;
-        }
-        for p in &self.pairs {
-            write_pair(out, p)?;
-        }
-        if let Some(s) = &self.stage {
-            write_stage(out, s)?;
-        }
-        if let Some(f) = &self.stage_flash {
-            write_flash(out, "  flashes        whole stage ", f)?;
-        }
-        if self.props.iter().any(|p| p.flash.is_some()) {
-            writeln!(
-                out,
-                "  (flash limits: W3C WCAG 2.x, written for screens, applied here as a conservative guide)"
-            )?;
-        }
-        if let Some(l) = &self.landing {
-            write_landing(out, &self.cues, l)?;
-        }
-        if !self.paintings.is_empty() {
-            write_paintings(out, &self.paintings)?;
-        }
-        writeln!(out, "\nWarnings: {}", self.warnings.len())?;
-        for w in &self.warnings {
-            writeln!(
-                out,
-                "  {:>10.3} s  bar {} beat {:.3}  {:<9}  {}",
-                w.at.time_s,
-                w.at.bar,
-                w.at.beat,
-                w.kind.name(),
-                w.message
-            )?;
-        }
-        writeln!(out, "\nCautions")?;
-        for c in &self.cautions {
-            writeln!(out, "  - {c}")?;
-        }
-        Ok(())
-    }
-}
-
-fn at(w: &Option<When>) -> String {
-    match w {
-        Some(w) => format!("at {w}"),
-        None => String::new(),
-    }
-}
-
-fn write_prop(out: &mut dyn Write, p: &PropFigures) -> io::Result<()> {
-    let staff = !p.ends.is_empty();
-    if staff {
-        writeln!(out, "\nProp {} (staff: the worst of both ends)", p.name)?;
-    } else {
-        writeln!(out, "\nProp {}", p.name)?;
-    }
-    writeln!(
-        out,
-        "  {}     up to {:.3} m/s {}",
-        if staff { "end speed " } else { "head speed" },
-        p.max_speed_m_s,
-        at(&p.max_speed_at)
-    )?;
-    writeln!(
-        out,
-        "  acceleration   up to {:.2} g {}",
-        p.max_acc_g,
-        at(&p.max_acc_at)
-    )?;
-    let (force, weight) = if staff {
-        ("rod force ", "end weight")
-    } else {
-        ("tension   ", "head weight")
-    };
-    writeln!(
-        out,
-        "  {force}     from {:.3} N ({:.2} x {weight}) {}",
-        p.min_tension_n,
-        p.min_tension_weights,
-        at(&p.min_tension_at)
-    )?;
-    writeln!(
-        out,
-        "                 to {:.3} N ({:.2} x {weight}) {}",
-        p.max_tension_n,
-        p.max_tension_weights,
-        at(&p.max_tension_at)
-    )?;
-    if staff {
-        writeln!(
-            out,
-            "                 (the rod's axial force at each end: negative pushes; a staff is never slack)"
-        )?;
-        for e in &p.ends {
-            writeln!(
-                out,
-                "  {} end{:w$} {:.3} m/s, {:.3} to {:.3} N, reach {:.3} m",
-                e.end,
-                "",
-                e.max_speed_m_s,
-                e.min_tension_n,
-                e.max_tension_n,
-                e.reach_m,
-                w = 10 - e.end.len()
-            )?;
-        }
-    } else {
-        writeln!(out, "  slack          {:.3} s in all", p.slack_s)?;
-    }
-    writeln!(
-        out,
-        "  spin           hand up to {:.2} turns/s, head up to {:.2} turns/s",
-        p.max_hand_turns_per_s, p.max_head_turns_per_s
-    )?;
-    writeln!(
-        out,
-        "  reach          {:.3} m from the anchor {}",
-        p.reach_m,
-        at(&p.reach_at)
-    )?;
-    writeln!(
-        out,
-        "                 {:.3} m from the centre line {}",
-        p.reach_from_centre_m,
-        at(&p.reach_from_centre_at)
-    )?;
-    if let Some(a) = p.peak_current_a {
-        writeln!(
-            out,
-            "  LED current    peak {a:.3} A {}",
-            at(&p.peak_current_at)
-        )?;
-    }
-    if let Some(a) = p.mean_current_a {
-        writeln!(out, "                 mean {a:.3} A")?;
-    }
-    if let Some(h) = p.battery_hours {
-        writeln!(out, "  battery        {h:.2} h at the mean current")?;
-    }
-    if let Some(k) = p.brightness_scale {
-        writeln!(
-            out,
-            "  brightness     scale by {k:.3} to keep the peak within max_current_a"
-        )?;
-    }
-    if let Some(h) = &p.hardware {
-        writeln!(
-            out,
-            "  LED line       refreshes at most {:.0} frames/s",
-            h.max_frame_rate_hz
-        )?;
-        let memory = h.memory_phrase();
-        let sep = if memory.is_empty() { "" } else { "; " };
-        writeln!(
-            out,
-            "  tables         full {} B, compact {} B{sep}{memory}",
-            h.full_table_bytes, h.compact_table_bytes
-        )?;
-        writeln!(
-            out,
-            "  clock drift    up to {:.1} ms ({:.3} beats) by the end",
-            h.drift_ms, h.drift_beats
-        )?;
-    }
-    if let Some(f) = &p.flash {
-        write_flash(out, "  flashes        ", f)?;
-    }
-    Ok(())
-}
-
-fn write_flash(out: &mut dyn Write, lead: &str, f: &FlashFigures) -> io::Result<()> {
-    writeln!(
-        out,
-        "{lead}up to {} general ({:.3} s) and {} red ({:.3} s) in one second, limit {}: {}",
-        f.max_general,
-        f.max_general_at_s,
-        f.max_red,
-        f.max_red_at_s,
-        f.limit,
-        if f.passes { "within" } else { "over" }
-    )
-}
-
-fn write_landing(out: &mut dyn Write, cues: &[CueLanding], l: &LandingSummary) -> io::Result<()> {
-    writeln!(
-        out,
-        "\nLanding (tolerance {} mm; needed rate = half a frame at the fastest event)",
-        l.tolerance_mm
-    )?;
-    for c in cues {
-        match (c.worst_ms, c.worst_mm, c.worst_deg) {
-            (Some(ms), Some(mm), Some(deg)) => writeln!(
-                out,
-                "  cue {} {} {} bars {}-{}: {} changes, worst {ms:.2} ms {mm:.1} mm {deg:.1} deg, needs {} Hz",
-                c.cue,
-                c.prop,
-                c.at,
-                c.bars[0],
-                c.bars[1],
-                c.changes,
-                c.needed_frame_rate_hz
-                    .map_or_else(|| "?".to_string(), |f| f.to_string())
-            )?,
-            _ => writeln!(
-                out,
-                "  cue {} {} {} bars {}-{}: no event-driven changes",
-                c.cue, c.prop, c.at, c.bars[0], c.bars[1]
-            )?,
-        }
-    }
-    Ok(())
-}
-
-fn write_paintings(out: &mut dyn Write, paintings: &[PaintingCoverage]) -> io::Result<()> {
-    writeln!(
-        out,
-        "\nPaintings (texels some LED comes within one texel width of, at a frame's midpoint)"
-    )?;
-    for c in paintings {
-        let share = c.covered_fraction.map_or_else(
-            || "no visible texels".to_string(),
-            |f| format!("{:.1} %", 100.0 * f),
-        );
-        let travel = c
-            .max_frame_travel_texels
-            .map_or_else(String::new, |t| format!(", up to {t:.2} texels per frame"));
-        writeln!(
-            out,
-            "  cue {} {} `{}` bars {}-{}: {share} of {} texels ({:.1} mm) in {:.3} s of painting{travel}",
-            c.cue,
-            c.prop,
-            c.file,
-            c.bars[0],
-            c.bars[1],
-            c.texels,
-            c.texel_m * 1000.0,
-            c.painting_s
-        )?;
-    }
-    Ok(())
-}
-
-fn write_pair(out: &mut dyn Write, p: &PairFigures) -> io::Result<()> {
-    let [a, b] = &p.props;
-    match (p.min_head_distance_m, p.min_tether_distance_m) {
-        (Some(h), Some(t)) => {
-            writeln!(
-                out,
-                "  {a} and {b}: heads within {h:.3} m {}",
-                at(&p.min_head_distance_at)
-            )?;
-            writeln!(
-                out,
-                "  {:w$}  tethers within {t:.3} m {} (contact at {:.3} m)",
-                "",
-                at(&p.min_tether_distance_at),
-                p.contact_m,
-                w = a.len() + b.len() + 5
-            )
-        }
-        _ => writeln!(out, "  {a} and {b}: never move at the same time"),
-    }
-}
-
-fn write_stage(out: &mut dyn Write, s: &Stage) -> io::Result<()> {
-    let r = |r: &Rect| {
-        format!(
-            "x {:.3} to {:.3} m, z {:.3} to {:.3} m ({:.3} m wide, {:.3} m deep)",
-            r.x_min_m, r.x_max_m, r.z_min_m, r.z_max_m, r.width_m, r.depth_m
-        )
-    };
-    writeln!(out, "\nStage")?;
-    writeln!(
-        out,
-        "  centre line    x = {:.3} m, z = {:.3} m",
-        s.centre_line_m[0], s.centre_line_m[1]
-    )?;
-    writeln!(out, "  swept          {}", r(&s.swept_m))?;
-    writeln!(
-        out,
-        "  clear space    {} with a {:.2} m margin",
-        r(&s.clear_space_m),
-        s.margin_m
-    )?;
-    writeln!(
-        out,
-        "  head height    y = {:.3} to {:.3} m",
-        s.lowest_head_m, s.highest_head_m
-    )
 }

@@ -8,7 +8,7 @@
 //! prescribed path needs the tether to push: a real tether goes slack there
 //! and the head leaves the path.
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 
 use super::kin::Kin;
 
@@ -16,8 +16,8 @@ use super::kin::Kin;
 pub const G0: f64 = 9.806_65;
 
 /// Gravity as a vector, stage coordinates (y up), m/s^2.
-pub fn gravity() -> Vector3<f64> {
-    Vector3::new(0.0, -G0, 0.0)
+pub fn gravity() -> Vec3 {
+    Vec3::new(0.0, -G0, 0.0)
 }
 
 /// Tether tension (N) of a head of `mass_kg` in state `k`, and its time
@@ -46,7 +46,7 @@ mod tests {
     #[test]
     fn hanging_head_pulls_its_weight() {
         // A head at rest under the hand: T = m g (Newton's second law).
-        let k = Kin::resting_end(Vector3::new(0.0, 1.5, 0.0), 0.6);
+        let k = Kin::resting_end(Vec3::new(0.0, 1.5, 0.0), 0.6);
         let (t, dt) = tension_n(0.2, &k);
         assert!((t - 0.2 * G0).abs() < 1e-15 && dt == 0.0);
     }
@@ -74,10 +74,10 @@ mod tests {
         let rate = 2.0;
         let kin = |t: f64| {
             let st = |j: [[f64; 2]; 4]| {
-                let mut o = [Vector3::zeros(); 4];
+                let mut o = [Vec3::zeros(); 4];
                 let mut k = 1.0;
                 for n in 0..4 {
-                    o[n] = Vector3::new(j[n][1], j[n][0], 0.0) * k;
+                    o[n] = Vec3::new(j[n][1], j[n][0], 0.0) * k;
                     k *= rate;
                 }
                 o

@@ -1,33 +1,26 @@
 //! Crossfades interpolated in Oklab (B. Ottosson, 2020).
 
 use palette::convert::FromColorUnclamped;
-use palette::{LinSrgb, Mix, Oklab, Srgb};
+use palette::{FromColor, LinSrgb, Mix, Oklab, Srgb};
 
 use super::transfer::to_linear;
-use crate::num;
 
-/// Linear sRGB (channels 0..1) to Oklab (L 0..1, a, b), Ottosson's matrices.
+/// Linear sRGB (channels 0..1) to Oklab (L 0..1, a, b), Ottosson's matrices, through palette.
 ///
-/// The same matrices palette uses, but the cube roots go through
-/// [`crate::num::cbrt`] (libm) so the result is the same on every machine;
-/// palette's own conversion calls the platform's `cbrt`.
+/// palette is built without its `std` feature and with `libm`
+/// (`Cargo.toml`), so its cube roots are libm's and the result is the same on
+/// every machine; `tests/deterministic_maths.rs` fails if `std` comes back.
+/// This is the one conversion the project uses (`cues` calls palette's
+/// `Oklab::from_color` directly, the same code).
 pub fn to_oklab(c: LinSrgb<f64>) -> Oklab<f64> {
-    let l = 0.412_221_470_8 * c.red + 0.536_332_536_3 * c.green + 0.051_445_992_9 * c.blue;
-    let m = 0.211_903_498_2 * c.red + 0.680_699_545_1 * c.green + 0.107_396_956_6 * c.blue;
-    let s = 0.088_302_461_9 * c.red + 0.281_718_837_6 * c.green + 0.629_978_700_5 * c.blue;
-    let (l, m, s) = (num::cbrt(l), num::cbrt(m), num::cbrt(s));
-    Oklab::new(
-        0.210_454_255_3 * l + 0.793_617_785 * m - 0.004_072_046_8 * s,
-        1.977_998_495_1 * l - 2.428_592_205 * m + 0.450_593_709_9 * s,
-        0.025_904_037_1 * l + 0.782_771_766_2 * m - 0.808_675_766 * s,
-    )
+    Oklab::from_color(c)
 }
 
 /// Oklab to linear sRGB (channels may leave 0..1 out of gamut), through palette.
 ///
-/// The inverse uses only cubes and products, so palette's version is portable.
-/// The published matrices carry 10 decimals: a round trip through [`to_oklab`]
-/// comes back within 5e-7 per channel (white: 2.6e-7, measured).
+/// The inverse uses only cubes and products. The published matrices carry 10
+/// decimals: a round trip through [`to_oklab`] comes back within 5e-7 per
+/// channel (white: 2.6e-7, measured).
 pub fn from_oklab(c: Oklab<f64>) -> LinSrgb<f64> {
     LinSrgb::from_color_unclamped(c)
 }
@@ -60,7 +53,7 @@ pub fn fade(a: Srgb<u8>, b: Srgb<u8>, t: f64) -> LinSrgb<f64> {
 mod tests {
     use super::*;
     use crate::colour::{led_bytes, parse_colour};
-    use palette::FromColor;
+    use crate::num;
 
     fn close(a: LinSrgb<f64>, b: LinSrgb<f64>, tol: f64) -> bool {
         (a.red - b.red).abs() < tol
@@ -114,18 +107,34 @@ mod tests {
         assert!((red.b - 0.126).abs() < 5e-4, "{red:?}");
     }
 
+    /// Oklab from linear sRGB written out from B. Ottosson's 2020 article
+    /// ("A perceptual color space for image processing": its linear sRGB to
+    /// LMS matrix, cube root, LMS' to Lab matrix), with libm's cube root.
+    fn ottosson(c: LinSrgb<f64>) -> [f64; 3] {
+        let l = 0.412_221_470_8 * c.red + 0.536_332_536_3 * c.green + 0.051_445_992_9 * c.blue;
+        let m = 0.211_903_498_2 * c.red + 0.680_699_545_1 * c.green + 0.107_396_956_6 * c.blue;
+        let s = 0.088_302_461_9 * c.red + 0.281_718_837_6 * c.green + 0.629_978_700_5 * c.blue;
+        let (l, m, s) = (num::cbrt(l), num::cbrt(m), num::cbrt(s));
+        [
+            0.210_454_255_3 * l + 0.793_617_785 * m - 0.004_072_046_8 * s,
+            1.977_998_495_1 * l - 2.428_592_205 * m + 0.450_593_709_9 * s,
+            0.025_904_037_1 * l + 0.782_771_766_2 * m - 0.808_675_766 * s,
+        ]
+    }
+
     #[test]
-    fn own_oklab_agrees_with_palette() {
-        // Same published matrices (B. Ottosson, 2020), different cube root.
+    fn oklab_agrees_with_ottossons_published_formula() {
+        // The article's matrices written out above, against palette's
+        // conversion: the same to 1e-12 (arithmetic order differs).
         for hex in [
             "#ff2000", "#0050ff", "#663399", "#ffffff", "#010203", "#7f7f00",
         ] {
             let lin = to_linear(parse_colour(hex).unwrap());
             let ours = to_oklab(lin);
-            let theirs = Oklab::from_color(lin);
-            assert!((ours.l - theirs.l).abs() < 1e-12, "{hex}");
-            assert!((ours.a - theirs.a).abs() < 1e-12, "{hex}");
-            assert!((ours.b - theirs.b).abs() < 1e-12, "{hex}");
+            let want = ottosson(lin);
+            assert!((ours.l - want[0]).abs() < 1e-12, "{hex}");
+            assert!((ours.a - want[1]).abs() < 1e-12, "{hex}");
+            assert!((ours.b - want[2]).abs() < 1e-12, "{hex}");
             let back = from_oklab(ours);
             assert!(close(back, lin, 5e-7), "{hex} round trip {back:?} {lin:?}");
         }
@@ -159,7 +168,8 @@ mod properties {
         fn every_fade_is_in_gamut(
             a in any::<[u8; 3]>(), b in any::<[u8; 3]>(), t in -1.0f64..2.0
         ) {
-            // LED gamut: linear light 0..1 per channel (glowscore contract).
+            // LED gamut: linear light 0..1 per channel (docs/conventions.md,
+            // "Colour on the frames").
             let c = fade(Srgb::from(a), Srgb::from(b), t);
             for v in [c.red, c.green, c.blue] {
                 prop_assert!((0.0..=1.0).contains(&v));

@@ -1,7 +1,5 @@
 //! Parsing colours: `#rrggbb` or a CSS colour name.
 
-use std::fmt;
-
 use palette::Srgb;
 
 use crate::diag::did_you_mean;
@@ -10,11 +8,13 @@ use crate::diag::did_you_mean;
 const ACCEPTED: &str = "a colour is #rrggbb (six hexadecimal digits) or a CSS colour name";
 
 /// Why a colour string was refused.
-#[derive(Clone, Debug, PartialEq, Eq)]
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
 pub enum ColourError {
     /// The string was empty (or only white space).
+    #[error("empty colour: {ACCEPTED}")]
     Empty,
     /// The string starts with `#` but is not `#` and six hexadecimal digits.
+    #[error("colour {value:?} is not #rrggbb: {ACCEPTED}{}", hint(suggestion))]
     BadHex {
         /// The text as written.
         value: String,
@@ -22,6 +22,7 @@ pub enum ColourError {
         suggestion: Option<String>,
     },
     /// The string is not a CSS colour name.
+    #[error("unknown colour {value:?}: {ACCEPTED}{}", hint(suggestion))]
     UnknownName {
         /// The text as written.
         value: String,
@@ -50,25 +51,12 @@ impl ColourError {
     }
 }
 
-impl fmt::Display for ColourError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        match self {
-            ColourError::Empty => write!(f, "empty colour: {ACCEPTED}")?,
-            ColourError::BadHex { value, .. } => {
-                write!(f, "colour {value:?} is not #rrggbb: {ACCEPTED}")?
-            }
-            ColourError::UnknownName { value, .. } => {
-                write!(f, "unknown colour {value:?}: {ACCEPTED}")?
-            }
-        }
-        if let Some(s) = self.suggestion() {
-            write!(f, "; did you mean {s:?}?")?;
-        }
-        Ok(())
-    }
+/// `"; did you mean \"x\"?"` for a suggestion, or nothing.
+fn hint(suggestion: &Option<String>) -> String {
+    suggestion
+        .as_ref()
+        .map_or_else(String::new, |s| format!("; did you mean {s:?}?"))
 }
-
-impl std::error::Error for ColourError {}
 
 /// Every CSS colour name palette knows (W3C CSS Color Module), sorted.
 pub fn css_names() -> Vec<&'static str> {

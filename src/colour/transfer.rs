@@ -155,7 +155,7 @@ mod tests {
 
     #[test]
     fn black_white_and_primaries_pass_unchanged() {
-        // glowscore contract, "Colour on the frames": black, white and the pure
+        // docs/conventions.md, "Colour on the frames": black, white and the pure
         // primaries pass unchanged (IEC 61966-2-1 fixes 0 and 1).
         let cases = [
             [0, 0, 0],

@@ -9,9 +9,10 @@ use crate::check::{CheckReport, CheckSettings, check};
 
 /// Checks the show at `path` and prints the report to `out`.
 ///
-/// An invalid show fails with its diagnostics (with `json`, a report with
-/// `"valid": false` and the errors is printed first). With `deny_warnings`,
-/// any warning makes the run fail after the report is printed.
+/// An invalid show, or one too large to check, fails with its errors (with
+/// `json`, a report with `"valid": false` and the errors is printed first).
+/// With `deny_warnings`, any warning makes the run fail after the report is
+/// printed.
 pub fn run(
     path: &Path,
     json: bool,
@@ -20,33 +21,39 @@ pub fn run(
     out: &mut dyn Write,
 ) -> Result<(), Failure> {
     super::check_tolerance(tolerance_mm)?;
-    let io = |e: std::io::Error| Failure::Failed(format!("cannot write the report: {e}"));
-    let show = match crate::show::load(path) {
-        Ok(show) => show,
-        Err(diags) => {
-            if json {
-                CheckReport::invalid(&diags).write_json(out).map_err(io)?;
-            }
-            return Err(Failure::Invalid(diags));
-        }
-    };
     let settings = CheckSettings {
         tolerance_mm,
         ..CheckSettings::default()
     };
-    let motions = crate::motion::simulate(&show);
-    let report = check(&show, &motions, &settings).map_err(|e| Failure::Failed(e.to_string()))?;
+    let io = Failure::output("the report");
+    let report = super::prepare(path).and_then(|prepared| Ok(check(&prepared, &settings)?));
+    let report = match report {
+        Ok(report) => report,
+        Err(failure) => {
+            if json {
+                let refused = match &failure {
+                    Failure::Invalid(diags) => CheckReport::invalid(diags),
+                    other => CheckReport::refused(
+                        other
+                            .to_string()
+                            .trim_start_matches("error: ")
+                            .trim_end()
+                            .to_string(),
+                    ),
+                };
+                refused.write_json(out).map_err(io)?;
+            }
+            return Err(failure);
+        }
+    };
     if json {
-        report.write_json(out).map_err(io)?;
+        report.write_json(out).map_err(&io)?;
     } else {
-        report.write_text(out).map_err(io)?;
+        report.write_text(out).map_err(&io)?;
     }
-    let n = report.warnings.len();
+    let n = report.unexpected_warnings();
     if deny_warnings && n > 0 {
-        return Err(Failure::Failed(format!(
-            "{n} warning{} and --deny-warnings was given",
-            if n == 1 { "" } else { "s" }
-        )));
+        return Err(Failure::Warnings(n));
     }
     Ok(())
 }

@@ -26,7 +26,8 @@ pub fn run(
     log: &mut dyn Write,
 ) -> Result<(), Failure> {
     super::check_tolerance(tolerance_mm)?;
-    let show = crate::show::load(path)?;
+    let prepared = super::prepare(path)?;
+    let show = prepared.show();
     let dir = out
         .map(Path::to_path_buf)
         .unwrap_or_else(|| default_out_dir(path));
@@ -34,8 +35,8 @@ pub fn run(
     opts.tolerance_mm = tolerance_mm;
     opts.header_form = header_form;
     opts.previews = previews;
-    let (summary, report) = compile(&show, &opts).map_err(|e| Failure::Failed(e.to_string()))?;
-    let io = |e: std::io::Error| Failure::Failed(format!("cannot write the summary: {e}"));
+    let (summary, report) = compile(&prepared, &opts)?;
+    let io = Failure::output("the summary");
     writeln!(
         log,
         "compiled `{}`: {} frames at {} frames/s ({:.2} s) into {}",
@@ -49,20 +50,22 @@ pub fn run(
         summary.duration_s,
         dir.display()
     )
-    .map_err(io)?;
+    .map_err(&io)?;
     for (name, t) in &summary.tables {
+        let files: Vec<String> = t
+            .files
+            .iter()
+            .map(|(_, f)| format!("{} {} B", f.file, f.bytes))
+            .collect();
         writeln!(
             log,
-            "  {name}: {} LED{} ({}), full table {} B, compact {} B, C header {} B, CSV {} B",
+            "  {name}: {} LED{} ({}): {}",
             t.leds,
             if t.leds == 1 { "" } else { "s" },
             t.wire_order,
-            t.full.bytes,
-            t.compact.bytes,
-            t.header.bytes,
-            t.csv.bytes
+            files.join(", ")
         )
-        .map_err(io)?;
+        .map_err(&io)?;
     }
     for p in &report.props {
         if let Some(h) = &p.hardware {
@@ -73,7 +76,7 @@ pub fn run(
                 "  {}: LED line up to {:.0} frames/s, clock drift up to {:.1} ms{sep}{memory}",
                 p.name, h.max_frame_rate_hz, h.drift_ms
             )
-            .map_err(io)?;
+            .map_err(&io)?;
         }
     }
     if let Some(w) = &summary.worst_landing {
@@ -88,10 +91,10 @@ pub fn run(
             cue.at_name(),
             show.props[w.prop].name
         )
-        .map_err(io)?;
+        .map_err(&io)?;
     }
     if !summary.previews.is_empty() {
-        writeln!(log, "  previews: {}", summary.previews.join(", ")).map_err(io)?;
+        writeln!(log, "  previews: {}", summary.previews.join(", ")).map_err(&io)?;
     }
     writeln!(
         log,
@@ -104,6 +107,6 @@ pub fn run(
             ""
         }
     )
-    .map_err(io)?;
+    .map_err(&io)?;
     Ok(())
 }

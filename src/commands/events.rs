@@ -6,12 +6,11 @@ use std::path::Path;
 use serde::Serialize;
 
 use super::Failure;
-use crate::events::{Event, find_events};
+use crate::events::Event;
 use crate::model::Show;
-use crate::motion::simulate;
 use crate::num::round_to;
 
-/// One event as the contract's JSON gives it.
+/// One event as `docs/conventions.md` ("Event JSON") gives it.
 #[derive(Serialize)]
 pub struct EventJson<'a> {
     /// Prop name.
@@ -50,28 +49,86 @@ impl<'a> EventJson<'a> {
     }
 }
 
-/// Prints every event of the show at `path` to `out`, sorted by time.
-pub fn run(path: &Path, json: bool, out: &mut dyn Write) -> Result<(), Failure> {
-    let show = crate::show::load(path)?;
-    let events = find_events(&show, &simulate(&show));
-    let io = |e: std::io::Error| Failure::Failed(format!("cannot write the events: {e}"));
+/// Which events to print; every field left empty lets all through.
+#[derive(Clone, Debug, Default)]
+pub struct EventFilter {
+    /// Only these props (names).
+    pub props: Vec<String>,
+    /// Only these kinds (`tip`, `inner`, `stall`, `angle`, `beat`, `bar`).
+    pub kinds: Vec<String>,
+    /// Only events in these bars, inclusive.
+    pub bars: Option<(u32, u32)>,
+}
+
+impl EventFilter {
+    /// Refuses a prop or kind name the show does not know, with the choices.
+    fn validate(&self, show: &Show) -> Result<(), Failure> {
+        for p in &self.props {
+            if show.prop_index(p).is_none() {
+                let names: Vec<&str> = show.props.iter().map(|p| p.name.as_str()).collect();
+                return Err(Failure::Option(format!(
+                    "--prop `{}`: the show has no such prop (it has {})",
+                    crate::diag::escape(p),
+                    names.join(", ")
+                )));
+            }
+        }
+        const KINDS: [&str; 6] = ["tip", "inner", "stall", "angle", "beat", "bar"];
+        for k in &self.kinds {
+            if !KINDS.contains(&k.as_str()) {
+                return Err(Failure::Option(format!(
+                    "--kind `{}` is not an event kind (one of {})",
+                    crate::diag::escape(k),
+                    KINDS.join(", ")
+                )));
+            }
+        }
+        Ok(())
+    }
+
+    fn keeps(&self, show: &Show, e: &Event) -> bool {
+        let (bar, _) = show.tempo.bar_beat(e.beat);
+        (self.props.is_empty() || self.props.contains(&show.props[e.prop].name))
+            && (self.kinds.is_empty() || self.kinds.iter().any(|k| k == e.kind.name()))
+            && self
+                .bars
+                .is_none_or(|(a, b)| i64::from(a) <= bar && bar <= i64::from(b))
+    }
+}
+
+/// Prints the events of the show at `path` that `filter` keeps to `out`,
+/// sorted by time.
+pub fn run(
+    path: &Path,
+    json: bool,
+    filter: &EventFilter,
+    out: &mut dyn Write,
+) -> Result<(), Failure> {
+    let prepared = super::prepare(path)?;
+    let show = prepared.show();
+    filter.validate(show)?;
+    let events: Vec<&Event> = prepared
+        .events()
+        .iter()
+        .filter(|e| filter.keeps(show, e))
+        .collect();
+    let io = Failure::output("the events");
     if json {
         // One event per line: valid JSON that diffs well.
-        write!(out, "[").map_err(io)?;
+        write!(out, "[").map_err(&io)?;
         for (i, e) in events.iter().enumerate() {
-            let line = serde_json::to_string(&EventJson::new(&show, e))
-                .map_err(|e| Failure::Failed(e.to_string()))?;
+            let line = serde_json::to_string(&EventJson::new(show, e)).map_err(|e| io(e.into()))?;
             let sep = if i == 0 { "" } else { "," };
-            write!(out, "{sep}\n  {line}").map_err(io)?;
+            write!(out, "{sep}\n  {line}").map_err(&io)?;
         }
-        writeln!(out, "{}]", if events.is_empty() { "" } else { "\n" }).map_err(io)?;
+        writeln!(out, "{}]", if events.is_empty() { "" } else { "\n" }).map_err(&io)?;
     } else {
         writeln!(
             out,
             "{:>12}  {:>10}  {:<10} {:<6} {:>24}  {:>8}",
             "time_s", "bar:beat", "prop", "kind", "position_m (x, y, z)", "m/s"
         )
-        .map_err(io)?;
+        .map_err(&io)?;
         for e in &events {
             let (bar, beat) = show.tempo.bar_beat(e.beat);
             let kind = match e.angle_deg {
@@ -91,7 +148,7 @@ pub fn run(path: &Path, json: bool, out: &mut dyn Write) -> Result<(), Failure> 
                 p.z + 0.0,
                 e.speed_m_s
             )
-            .map_err(io)?;
+            .map_err(&io)?;
         }
     }
     Ok(())

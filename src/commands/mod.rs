@@ -1,6 +1,7 @@
 //! The commands of the `glowscore` program, callable without the CLI.
 //!
-//! Each command reads a show, runs the pipeline and writes its output; all
+//! Each command reads a show, makes its one [`Prepared`] value (motion,
+//! events and frame colours, made once) and writes its output from it; all
 //! return [`Failure`] on error so that the binary can map it to an exit code.
 
 pub mod check;
@@ -10,34 +11,69 @@ pub mod preview;
 pub mod rehearse;
 pub mod tempo;
 
-use std::fmt;
+use std::path::Path;
 
+use crate::check::CheckError;
+use crate::compile::CompileError;
 use crate::diag::Diagnostics;
+use crate::prepared::{PrepareError, Prepared};
+use crate::preview::PreviewError;
 
-/// Why a command failed: the show is invalid, or the work could not be done.
-#[derive(Debug)]
+/// Why a command failed. Every variant is exit status 1.
+#[derive(Debug, thiserror::Error)]
 pub enum Failure {
-    /// The show file has errors (exit status 1).
+    /// The show file has errors.
+    #[error("{0}")]
     Invalid(Diagnostics),
-    /// Reading or writing failed, or a limit was exceeded (exit status 1).
-    Failed(String),
+    /// The show is valid but too large to prepare.
+    #[error("error: {0}\n")]
+    Prepare(#[from] PrepareError),
+    /// The check could not run (too much work).
+    #[error("error: {0}\n")]
+    Check(#[from] CheckError),
+    /// The compile failed; earlier outputs are untouched.
+    #[error("error: {0}\n")]
+    Compile(#[from] CompileError),
+    /// The preview could not be rendered or written.
+    #[error("error: {0}\n")]
+    Preview(#[from] PreviewError),
+    /// A song could not be read or analysed, or a practice track written.
+    #[error("error: {0}\n")]
+    Music(String),
+    /// An option's value is out of range.
+    #[error("error: {0}\n")]
+    Option(String),
+    /// Printing the result failed.
+    #[error("error: cannot write {what}: {source}\n")]
+    Output {
+        /// What was being written.
+        what: &'static str,
+        /// The cause.
+        source: std::io::Error,
+    },
+    /// The show is fine but `--deny-warnings` was given and it has warnings.
+    #[error("error: {0} warning{s} the show does not expect (no `[[expected]]` entry) and --deny-warnings was given\n", s = if *.0 == 1 { "" } else { "s" })]
+    Warnings(usize),
 }
 
-impl fmt::Display for Failure {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        match self {
-            Failure::Invalid(d) => write!(f, "{d}"),
-            Failure::Failed(m) => writeln!(f, "error: {m}"),
-        }
+impl Failure {
+    /// A failure to print `what`.
+    pub fn output(what: &'static str) -> impl Fn(std::io::Error) -> Failure {
+        move |source| Failure::Output { what, source }
     }
 }
-
-impl std::error::Error for Failure {}
 
 impl From<Diagnostics> for Failure {
     fn from(d: Diagnostics) -> Self {
         Failure::Invalid(d)
     }
+}
+
+/// Reads the show at `path` and prepares it: the one way every command
+/// starts.
+pub fn prepare(path: &Path) -> Result<Prepared, Failure> {
+    let show = crate::show::load(path)?;
+    Ok(Prepared::new(show)?)
 }
 
 /// Refuses a landing tolerance (`--tolerance-mm`) that is not a positive
@@ -46,7 +82,7 @@ pub fn check_tolerance(tolerance_mm: f64) -> Result<(), Failure> {
     if tolerance_mm.is_finite() && tolerance_mm > 0.0 {
         return Ok(());
     }
-    Err(Failure::Failed(format!(
+    Err(Failure::Option(format!(
         "--tolerance-mm must be a positive number of millimetres, got {tolerance_mm}"
     )))
 }

@@ -1,169 +1,13 @@
 //! `glowscore preview`: a long-exposure picture of a passage, as a PNG.
 
 use std::io::{IsTerminal, Write};
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::time::{Duration, Instant};
 
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
-use nalgebra::Vector3;
 
 use super::Failure;
-use crate::cues::place;
-use crate::events::find_events;
-use crate::motion::simulate;
-use crate::preview::{self, Pinhole, PreviewOptions, Shutter, View};
-
-/// The options of `glowscore preview`.
-#[derive(clap::Args, Debug, Clone)]
-pub struct PreviewArgs {
-    /// The show file (TOML).
-    pub show: PathBuf,
-    /// The PNG to write (replaced atomically).
-    #[arg(long, value_name = "FILE.png")]
-    pub out: PathBuf,
-    /// Bars the shutter is open for, inclusive (default: the whole show).
-    #[arg(long, value_name = "A-B", value_parser = parse_bars)]
-    pub bars: Option<(u32, u32)>,
-    /// Picture size in pixels (default 1600x1200).
-    #[arg(long, value_name = "WxH", value_parser = parse_size)]
-    pub size: Option<(u32, u32)>,
-    /// Stage area shown, metres, in the view's screen coordinates (front: x, y;
-    /// side: z, y; top: x, -z); default: fitted to the light.
-    #[arg(long, value_name = "X0,Y0,X1,Y1", allow_hyphen_values = true, value_parser = parse_viewport)]
-    pub viewport: Option<[f64; 4]>,
-    /// Shutter time, seconds, from the opening (--start-s, or the first of --bars).
-    #[arg(long, value_name = "S", allow_hyphen_values = true)]
-    pub exposure_s: Option<f64>,
-    /// Opening time, seconds from frame 0 (default 0, or the first of --bars).
-    #[arg(
-        long,
-        value_name = "S",
-        allow_hyphen_values = true,
-        conflicts_with = "bars"
-    )]
-    pub start_s: Option<f64>,
-    /// Exposure compensation from the automatic meter, stops (+1 doubles the light).
-    #[arg(
-        long,
-        value_name = "STOPS",
-        allow_hyphen_values = true,
-        default_value_t = 0.0
-    )]
-    pub ev: f64,
-    /// Orthographic view: front (the audience's), side (from the audience's left) or top.
-    #[arg(long, value_name = "VIEW", default_value = "front", value_parser = parse_view)]
-    pub view: View,
-    /// A perspective photo from this eye point, stage metres.
-    #[arg(long, value_name = "X,Y,Z", allow_hyphen_values = true, value_parser = parse_point)]
-    pub camera: Option<[f64; 3]>,
-    /// Where the camera looks, stage metres (default: the middle of the light).
-    #[arg(long, value_name = "X,Y,Z", allow_hyphen_values = true, value_parser = parse_point, requires = "camera")]
-    pub look_at: Option<[f64; 3]>,
-    /// The camera's vertical field of view, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = preview::DEFAULT_FOV_DEG, requires = "camera")]
-    pub fov: f64,
-    /// Draws a scale bar in metres (orthographic views).
-    #[arg(long)]
-    pub scale_bar: bool,
-    /// The stage behind the light: #rrggbb or a CSS colour name.
-    #[arg(long, value_name = "COLOUR", value_parser = parse_background)]
-    pub background: Option<[u8; 3]>,
-}
-
-fn numbers<const N: usize>(s: &str, what: &str) -> Result<[f64; N], String> {
-    let parts: Vec<&str> = s.split(',').map(str::trim).collect();
-    let bad = || format!("expected {what}, got `{s}`");
-    if parts.len() != N {
-        return Err(bad());
-    }
-    let mut out = [0.0; N];
-    for (o, p) in out.iter_mut().zip(&parts) {
-        *o = p.parse::<f64>().map_err(|_| bad())?;
-        if !o.is_finite() {
-            return Err(bad());
-        }
-    }
-    Ok(out)
-}
-
-/// Parses `A-B` (bars, from 1) or a single bar `A`.
-pub fn parse_bars(s: &str) -> Result<(u32, u32), String> {
-    let bad = || format!("expected bars as A-B (e.g. 5-8), got `{s}`");
-    let (a, b) = s.split_once('-').unwrap_or((s, s));
-    let a: u32 = a.trim().parse().map_err(|_| bad())?;
-    let b: u32 = b.trim().parse().map_err(|_| bad())?;
-    if a == 0 || b < a {
-        return Err(format!("bars count from 1 and A <= B, got `{s}`"));
-    }
-    Ok((a, b))
-}
-
-/// Parses `WxH` in pixels.
-pub fn parse_size(s: &str) -> Result<(u32, u32), String> {
-    let bad = || format!("expected WxH in pixels (e.g. 1920x1080), got `{s}`");
-    let (w, h) = s.split_once(['x', 'X']).ok_or_else(bad)?;
-    let w: u32 = w.trim().parse().map_err(|_| bad())?;
-    let h: u32 = h.trim().parse().map_err(|_| bad())?;
-    if w == 0 || h == 0 || w > preview::MAX_SIDE || h > preview::MAX_SIDE {
-        return Err(format!(
-            "each side must be 1 to {} pixels, got `{s}`",
-            preview::MAX_SIDE
-        ));
-    }
-    Ok((w, h))
-}
-
-/// Parses `X0,Y0,X1,Y1` in metres, with X1 > X0 and Y1 > Y0.
-pub fn parse_viewport(s: &str) -> Result<[f64; 4], String> {
-    let v = numbers::<4>(s, "X0,Y0,X1,Y1 in metres (e.g. -1.8,0.4,1.8,2.4)")?;
-    if v[2] <= v[0] || v[3] <= v[1] {
-        return Err(format!(
-            "X1 must be greater than X0 and Y1 than Y0, got `{s}`"
-        ));
-    }
-    Ok(v)
-}
-
-/// Parses `X,Y,Z` in metres.
-pub fn parse_point(s: &str) -> Result<[f64; 3], String> {
-    numbers::<3>(s, "X,Y,Z in metres (e.g. 2,1.6,6)")
-}
-
-/// Parses a view name.
-pub fn parse_view(s: &str) -> Result<View, String> {
-    View::from_name(s).ok_or_else(|| format!("expected front, side or top, got `{s}`"))
-}
-
-/// Parses a background colour.
-pub fn parse_background(s: &str) -> Result<[u8; 3], String> {
-    crate::colour::parse_colour(s)
-        .map(|c| [c.red, c.green, c.blue])
-        .map_err(|e| e.to_string())
-}
-
-impl PreviewArgs {
-    /// The renderer's options.
-    pub fn options(&self) -> PreviewOptions {
-        PreviewOptions {
-            size: self.size,
-            view: self.view,
-            viewport: self.viewport,
-            pinhole: self.camera.map(|e| Pinhole {
-                eye_m: Vector3::from(e),
-                look_at_m: self.look_at.map(Vector3::from),
-                fov_deg: self.fov,
-            }),
-            shutter: Shutter {
-                bars: self.bars,
-                start_s: self.start_s,
-                exposure_s: self.exposure_s,
-            },
-            ev_stops: self.ev,
-            background: self.background.unwrap_or(preview::DEFAULT_BACKGROUND),
-            scale_bar: self.scale_bar,
-        }
-    }
-}
+use crate::preview::{self, PreviewOptions};
 
 /// A progress bar on stderr, shown only when stderr is a terminal and the
 /// render has taken more than a second.
@@ -204,55 +48,29 @@ impl Progress {
     }
 }
 
-/// Renders the preview of `args` and writes it; a line about it goes to `out`.
-pub fn run(args: &PreviewArgs, out: &mut dyn Write) -> Result<(), Failure> {
-    let show = crate::show::load(&args.show)?;
-    let motions = simulate(&show);
-    let events = find_events(&show, &motions);
-    let lights = place(&show, &motions, &events);
-    let opts = args.options();
+/// Renders the preview of the show at `show` with `opts` and writes it to
+/// `out_png` (atomically); a line about it goes to `log`.
+pub fn run(
+    show: &Path,
+    out_png: &Path,
+    opts: &PreviewOptions,
+    log: &mut dyn Write,
+) -> Result<(), Failure> {
+    let prepared = super::prepare(show)?;
     let progress = Progress::new();
-    let photo = preview::shoot(&show, &motions, &lights, &opts, &|d, t| {
-        progress.update(d, t)
-    });
+    let photo = preview::shoot(&prepared, opts, &|d, t| progress.update(d, t));
     progress.finish();
-    let photo = photo.map_err(|e| Failure::Failed(e.to_string()))?;
-    let img = preview::develop(&photo, &opts);
-    write(&args.out, &img)?;
+    let photo = photo?;
+    let img = preview::develop(&photo, opts);
+    preview::write_png_atomic(out_png, &img)?;
     let (t0, t1) = photo.window_s;
     writeln!(
-        out,
+        log,
         "{}: {}x{} pixels, shutter {t0:.3} s to {t1:.3} s, gain {:.4e} per LED-second",
-        args.out.display(),
+        out_png.display(),
         img.width(),
         img.height(),
         photo.gain
     )
-    .map_err(|e| Failure::Failed(format!("cannot write to stdout: {e}")))
-}
-
-fn write(path: &Path, img: &image::RgbImage) -> Result<(), Failure> {
-    preview::write_png_atomic(path, img).map_err(|e| Failure::Failed(e.to_string()))
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn option_values_parse_and_bad_ones_are_refused() {
-        assert_eq!(parse_bars("5-8"), Ok((5, 8)));
-        assert_eq!(parse_bars("3"), Ok((3, 3)));
-        assert!(parse_bars("8-5").is_err() && parse_bars("0-2").is_err());
-        assert_eq!(parse_size("160x120"), Ok((160, 120)));
-        assert!(parse_size("0x10").is_err() && parse_size("12").is_err());
-        assert_eq!(
-            parse_viewport("-1.8,0.4,1.8,2.4"),
-            Ok([-1.8, 0.4, 1.8, 2.4])
-        );
-        assert!(parse_viewport("1,0,-1,2").is_err());
-        assert!(parse_viewport("1,0,nan,2").is_err());
-        assert_eq!(parse_point("-2, 1.5, 6"), Ok([-2.0, 1.5, 6.0]));
-        assert!(parse_view("back").is_err());
-    }
+    .map_err(Failure::output("the summary"))
 }

@@ -59,7 +59,7 @@ pub fn run(
             .position(|p| p.name == name)
             .ok_or_else(|| {
                 let names: Vec<&str> = show.props.iter().map(|p| p.name.as_str()).collect();
-                Failure::Failed(format!(
+                Failure::Music(format!(
                     "{}: no prop {name:?} (the props are {})",
                     show_path.display(),
                     names.join(", ")
@@ -69,14 +69,14 @@ pub fn run(
     let audio = song
         .map(crate::music::decode_file)
         .transpose()
-        .map_err(Failure::Failed)?;
+        .map_err(Failure::Music)?;
     let rate = audio.as_ref().map_or(RATE, |a| a.rate);
     let end = show
         .end_s()
         .max(audio.as_ref().map_or(0.0, |a| a.duration_s()))
         + 0.5;
     if !(end.is_finite() && end <= crate::music::decode::MAX_SECONDS) {
-        return Err(Failure::Failed(format!(
+        return Err(Failure::Music(format!(
             "{}: the practice track would last over 30 minutes",
             show_path.display()
         )));
@@ -120,7 +120,7 @@ pub fn run(
         bits_per_sample: 16,
         sample_format: hound::SampleFormat::Int,
     };
-    let fail = |e: hound::Error| Failure::Failed(format!("{}: cannot write: {e}", out.display()));
+    let fail = |e: hound::Error| Failure::Music(format!("{}: cannot write: {e}", out.display()));
     let mut w = hound::WavWriter::create(out, spec).map_err(fail)?;
     for x in &track {
         let q = (f64::from(*x) * 32767.0).round().clamp(-32768.0, 32767.0) as i16;

@@ -19,7 +19,7 @@ fn r2(x: f64) -> f64 {
 
 /// Parses `--bpm-range LO-HI`.
 pub fn parse_range(s: &str) -> Result<(f64, f64), Failure> {
-    let bad = || Failure::Failed(format!("--bpm-range must be LO-HI, like 80-160, got {s:?}"));
+    let bad = || Failure::Music(format!("--bpm-range must be LO-HI, like 80-160, got {s:?}"));
     let (a, b) = s.split_once('-').ok_or_else(bad)?;
     let lo: f64 = a.trim().parse().map_err(|_| bad())?;
     let hi: f64 = b.trim().parse().map_err(|_| bad())?;
@@ -67,19 +67,19 @@ pub fn json_value(a: &Analysis) -> serde_json::Value {
 
 /// Runs the command.
 pub fn run(song: &Path, json: bool, opts: &Options, out: &mut dyn Write) -> Result<(), Failure> {
-    let audio = music::decode_file(song).map_err(Failure::Failed)?;
+    let audio = music::decode_file(song).map_err(Failure::Music)?;
     let a = music::analyse(&audio, opts).map_err(|e| match e {
-        MusicError::NoSteadyBeat(m) => Failure::Failed(format!("{}: {m}", song.display())),
-        MusicError::BadOptions(m) => Failure::Failed(m),
+        MusicError::NoSteadyBeat(m) => Failure::Music(format!("{}: {m}", song.display())),
+        MusicError::BadOptions(m) => Failure::Music(m),
     })?;
     let text = if json {
         let mut t = serde_json::to_string_pretty(&json_value(&a))
-            .map_err(|e| Failure::Failed(e.to_string()))?;
+            .map_err(|e| Failure::Music(e.to_string()))?;
         t.push('\n');
         t
     } else {
         toml_block(song, &a)
     };
     out.write_all(text.as_bytes())
-        .map_err(|e| Failure::Failed(format!("cannot write the output: {e}")))
+        .map_err(|e| Failure::Music(format!("cannot write the output: {e}")))
 }

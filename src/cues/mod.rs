@@ -234,6 +234,61 @@ impl PropLights {
             .find(|t| t.first_frame <= k && k < t.end_frame)
     }
 
+    /// Whether cue `cue` decides frame `k` (it covers it and no later cue on
+    /// the prop does).
+    pub fn plays(&self, cue: usize, k: u64) -> bool {
+        self.track_at(k).is_some_and(|t| t.cue == cue)
+    }
+
+    /// The cues whose frames later cues on the prop hide, in file order:
+    /// each with the frames hidden, the first hidden stretch (first frame,
+    /// one past the last) and the cue that decides its first frame.
+    pub fn hidden(&self) -> Vec<Hidden> {
+        // From the last cue back, the frames of the later cues as disjoint
+        // stretches (start -> end): each cue is hidden where they cover it.
+        let mut later: std::collections::BTreeMap<u64, u64> = std::collections::BTreeMap::new();
+        let mut out = Vec::new();
+        for t in self.tracks.iter().rev() {
+            let (a, b) = (t.first_frame, t.end_frame);
+            if a >= b {
+                continue;
+            }
+            let mut frames = 0;
+            let mut first: Option<(u64, u64)> = None;
+            // Stretches that start before b and end after a.
+            let start = later.range(..a).next_back().map_or(a, |(&s, _)| s);
+            let mut merged = (a, b);
+            let touching: Vec<(u64, u64)> = later
+                .range(start..b)
+                .map(|(&s, &e)| (s, e))
+                .filter(|&(_, e)| e >= a)
+                .collect();
+            for &(s, e) in &touching {
+                let (x, y) = (s.max(a), e.min(b));
+                if y > x {
+                    frames += y - x;
+                    if first.is_none_or(|f| x < f.0) {
+                        first = Some((x, y));
+                    }
+                }
+                merged = (merged.0.min(s), merged.1.max(e));
+                later.remove(&s);
+            }
+            later.insert(merged.0, merged.1);
+            if let Some((x, y)) = first {
+                out.push(Hidden {
+                    cue: t.cue,
+                    by: self.track_at(x).map_or(t.cue, |w| w.cue),
+                    frames,
+                    of_frames: b - a,
+                    first: (x, y),
+                });
+            }
+        }
+        out.reverse();
+        out
+    }
+
     /// Fills `out` (one R, G, B triple per LED, table order) with the LED
     /// bytes of frame `k`: linear light times the prop's brightness.
     pub fn fill_frame(&self, show: &Show, k: u64, out: &mut [[u8; 3]]) {
@@ -307,6 +362,21 @@ impl PropLights {
             *o = colour::led_bytes(lin, self.brightness);
         }
     }
+}
+
+/// A cue that later cues on the same prop hide, in part or whole.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Hidden {
+    /// The hidden cue, index in file order.
+    pub cue: usize,
+    /// The cue that decides the first hidden frame.
+    pub by: usize,
+    /// Frames of it that do not play.
+    pub frames: u64,
+    /// Frames it covers.
+    pub of_frames: u64,
+    /// The first hidden stretch: first frame, one past the last.
+    pub first: (u64, u64),
 }
 
 /// Every prop's colours, and the landing of every event-driven change.

@@ -10,7 +10,7 @@
 
 mod scan;
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 
 pub use scan::sign_changes;
 
@@ -39,7 +39,7 @@ pub struct Event {
     /// Seconds from frame 0.
     pub time_s: f64,
     /// Head position, stage coordinates, metres.
-    pub position_m: Vector3<f64>,
+    pub position_m: Vec3,
     /// Head speed, m/s.
     pub speed_m_s: f64,
     /// With [`EventKind::Angle`]: the clock angle passed, degrees.

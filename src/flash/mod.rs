@@ -97,8 +97,8 @@ pub fn is_saturated_red(c: LinSrgb<f64>) -> bool {
 
 /// The linear light (channels 0..1) of LED table bytes, which are already linear: byte / 255.
 ///
-/// The frame tables hold linear light scaled to 0..255 (see the contract), so
-/// they must not be decoded with the sRGB curve again.
+/// The frame tables hold linear light scaled to 0..255 (`docs/conventions.md`,
+/// "Colour on the frames"), so they must not be decoded with the sRGB curve again.
 pub fn led_light(bytes: [u8; 3]) -> LinSrgb<f64> {
     let f = |b: u8| f64::from(b) / 255.0;
     LinSrgb::new(f(bytes[0]), f(bytes[1]), f(bytes[2]))

@@ -289,7 +289,7 @@ fn bad_input_is_an_error_or_cleaned_not_a_panic() {
 
 #[test]
 fn led_bytes_are_read_as_linear_light() {
-    // glowscore contract: table values are linear light scaled to 0..255.
+    // docs/conventions.md, "Colour on the frames": table values are linear light scaled to 0..255.
     assert_eq!(led_light([255, 0, 51]), LinSrgb::new(1.0, 0.0, 0.2));
 }
 

@@ -6,13 +6,15 @@
 
 use std::sync::Arc;
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 
 use crate::diag::Source;
+mod names;
 mod tempo;
 mod wire;
 
 pub use crate::picture::{FixedTo, Picture, PicturePlacement};
+pub use names::c_identifier;
 pub use tempo::TempoMap;
 pub use wire::WireOrder;
 
@@ -33,8 +35,13 @@ pub struct Show {
     pub sections: Vec<Section>,
     /// The colour cues, in file order (later ones win where they overlap).
     pub cues: Vec<Cue>,
+    /// Warnings the show's author expects (`[[expected]]`), in file order.
+    pub expected: Vec<Expected>,
     /// The show file, for diagnostics that point into it.
     pub source: Arc<Source>,
+    /// The reader's warnings (old key values still read, and the like):
+    /// the show is used, and every command prints them.
+    pub notes: Vec<crate::diag::Diagnostic>,
 }
 
 /// What kind of prop it is.
@@ -131,6 +138,8 @@ impl LedSpot {
 pub struct Prop {
     /// Its name, the key of its `[prop.NAME]` table.
     pub name: String,
+    /// Where its table starts in the show file, bytes (to locate warnings).
+    pub offset: usize,
     /// Poi or staff.
     pub kind: PropKind,
     /// Grip (handle) to the head end's centre, metres: the poi's tether, or
@@ -139,7 +148,7 @@ pub struct Prop {
     /// Grip to the tail end, metres: the staff's other half (0 for a poi).
     pub tail_m: f64,
     /// Centre of the hand's path, stage coordinates, metres.
-    pub anchor_m: Vector3<f64>,
+    pub anchor_m: Vec3,
     /// Number of LEDs on the prop, all strips together.
     pub leds: u32,
     /// The LEDs, strip by strip in table order (never empty). A poi without
@@ -223,10 +232,12 @@ impl Prop {
 /// The family of LED driver on a prop's data line.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub enum LedDriver {
-    /// One data wire at 800 kbit/s, 1.25 us per bit, then a latch gap.
-    OneWire,
-    /// A data and a clock wire, at `clock_hz` bits per second.
-    Clocked {
+    /// A data line alone (the bits timed by pulse width) at 800 kbit/s,
+    /// 1.25 us per bit, then a latch gap (`data_only` in a show).
+    DataOnly,
+    /// A data line beside a clock line, at `clock_hz` bits per second
+    /// (`data_clock` in a show).
+    DataClock {
         /// The data clock, hertz.
         clock_hz: f64,
     },
@@ -245,18 +256,18 @@ pub enum Plane {
 
 impl Plane {
     /// Unit vector of clock angle 0 (12 o'clock), stage coordinates.
-    pub fn up(self) -> Vector3<f64> {
+    pub fn up(self) -> Vec3 {
         match self {
-            Plane::Wall | Plane::Wheel => Vector3::new(0.0, 1.0, 0.0),
-            Plane::Floor => Vector3::new(0.0, 0.0, -1.0),
+            Plane::Wall | Plane::Wheel => Vec3::new(0.0, 1.0, 0.0),
+            Plane::Floor => Vec3::new(0.0, 0.0, -1.0),
         }
     }
 
     /// Unit vector of clock angle 90 (3 o'clock), stage coordinates.
-    pub fn right(self) -> Vector3<f64> {
+    pub fn right(self) -> Vec3 {
         match self {
-            Plane::Wall | Plane::Floor => Vector3::new(1.0, 0.0, 0.0),
-            Plane::Wheel => Vector3::new(0.0, 0.0, 1.0),
+            Plane::Wall | Plane::Floor => Vec3::new(1.0, 0.0, 0.0),
+            Plane::Wheel => Vec3::new(0.0, 0.0, 1.0),
         }
     }
 
@@ -314,6 +325,8 @@ pub struct Placement {
 /// A run of bars in which each prop plays one pattern (or rests).
 #[derive(Clone, Debug)]
 pub struct Section {
+    /// Where its table starts in the show file, bytes (to locate warnings).
+    pub offset: usize,
     /// First bar, inclusive, from 1.
     pub first_bar: u32,
     /// Last bar, inclusive.
@@ -425,6 +438,8 @@ pub enum Look {
 /// A colour cue on one prop over a range of bars.
 #[derive(Clone, Debug)]
 pub struct Cue {
+    /// Where its table starts in the show file, bytes (to locate warnings).
+    pub offset: usize,
     /// Index into [`Show::props`].
     pub prop: usize,
     /// First bar, inclusive.
@@ -459,6 +474,37 @@ impl Cue {
             Look::Image(_) => "image",
         }
     }
+}
+
+/// The names of the check's warning kinds, as `[[expected]]` gives them.
+pub const WARNING_KINDS: &[&str] = &[
+    "slack",
+    "spin_rate",
+    "collision",
+    "jump",
+    "flash",
+    "current",
+    "landing",
+    "refresh",
+    "memory",
+    "drift",
+    "coverage",
+    "overlap",
+];
+
+/// A warning the show's author knows of and means (`[[expected]]`).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Expected {
+    /// Where its table starts in the show file, bytes.
+    pub offset: usize,
+    /// The warning kind, one of [`WARNING_KINDS`].
+    pub kind: &'static str,
+    /// The prop it is about (`(stage)` for the whole stage); any when `None`.
+    pub prop: Option<String>,
+    /// First and last bar it may fall in, inclusive; anywhere when `None`.
+    pub bars: Option<(u32, u32)>,
+    /// Why it is expected, in the author's words.
+    pub why: String,
 }
 
 impl Show {

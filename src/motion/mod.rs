@@ -10,7 +10,7 @@ pub mod curve;
 
 use std::f64::consts::{PI, TAU};
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 
 pub use curve::{Curve, Jet, Rotor};
 
@@ -36,9 +36,9 @@ pub struct Span {
     pub plane: Plane,
     /// True where the placement mirrors the clock.
     pub mirror: bool,
-    anchor: Vector3<f64>,
-    up: Vector3<f64>,
-    right: Vector3<f64>,
+    anchor: Vec3,
+    up: Vec3,
+    right: Vec3,
     /// Pattern phase per beat (signed: negative when reversed).
     phase_per_beat: f64,
     delay_beats: f64,
@@ -78,17 +78,17 @@ impl Span {
     }
 
     /// A point of the plane's own coordinates in stage coordinates, metres.
-    pub fn to_stage(&self, p: [f64; 2]) -> Vector3<f64> {
+    pub fn to_stage(&self, p: [f64; 2]) -> Vec3 {
         self.anchor + self.to_stage_dir(p)
     }
 
     /// A direction of the plane's own coordinates in stage coordinates.
-    pub fn to_stage_dir(&self, p: [f64; 2]) -> Vector3<f64> {
+    pub fn to_stage_dir(&self, p: [f64; 2]) -> Vec3 {
         self.up * p[0] + self.right * p[1]
     }
 
     /// The anchor, stage coordinates, metres.
-    pub fn anchor(&self) -> Vector3<f64> {
+    pub fn anchor(&self) -> Vec3 {
         self.anchor
     }
 
@@ -136,19 +136,19 @@ fn scale_jet(j: Jet, k: f64) -> Jet {
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct State {
     /// Hand position, stage coordinates, metres.
-    pub hand_m: Vector3<f64>,
+    pub hand_m: Vec3,
     /// Hand velocity, m/s.
-    pub hand_vel: Vector3<f64>,
+    pub hand_vel: Vec3,
     /// Hand acceleration, m/s^2.
-    pub hand_acc: Vector3<f64>,
+    pub hand_acc: Vec3,
     /// Head position, stage coordinates, metres.
-    pub head_m: Vector3<f64>,
+    pub head_m: Vec3,
     /// Head velocity, m/s.
-    pub head_vel: Vector3<f64>,
+    pub head_vel: Vec3,
     /// Head acceleration, m/s^2.
-    pub head_acc: Vector3<f64>,
+    pub head_acc: Vec3,
     /// Unit vector from the grip toward the head end, stage coordinates.
-    pub dir: Vector3<f64>,
+    pub dir: Vec3,
     /// Index into [`PropMotion::spans`], or `None` while resting.
     pub span: Option<usize>,
 }
@@ -160,7 +160,7 @@ pub struct PropMotion {
     pub prop: usize,
     /// The sections the prop plays in, in time order.
     pub spans: Vec<Span>,
-    anchor: Vector3<f64>,
+    anchor: Vec3,
     tether_m: f64,
 }
 
@@ -232,8 +232,8 @@ impl PropMotion {
     /// Where the point `along_m` metres from the grip along the prop (a
     /// staff's tail half negative) is while the prop rests: the hand at the
     /// anchor and the prop pointing straight down from it.
-    pub fn rest_point(&self, along_m: f64) -> Vector3<f64> {
-        self.anchor - Vector3::new(0.0, along_m, 0.0)
+    pub fn rest_point(&self, along_m: f64) -> Vec3 {
+        self.anchor - Vec3::new(0.0, along_m, 0.0)
     }
 
     /// The state at `t` seconds from frame 0.
@@ -265,12 +265,12 @@ impl PropMotion {
             }
             None => State {
                 hand_m: self.anchor,
-                hand_vel: Vector3::zeros(),
-                hand_acc: Vector3::zeros(),
+                hand_vel: Vec3::zeros(),
+                hand_acc: Vec3::zeros(),
                 head_m: self.rest_point(self.tether_m),
-                head_vel: Vector3::zeros(),
-                head_acc: Vector3::zeros(),
-                dir: Vector3::new(0.0, -1.0, 0.0),
+                head_vel: Vec3::zeros(),
+                head_acc: Vec3::zeros(),
+                dir: Vec3::new(0.0, -1.0, 0.0),
                 span: None,
             },
         }

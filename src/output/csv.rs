@@ -1,4 +1,5 @@
-//! The CSV table of the contract: `frame,time_s,r0,g0,b0,r1,...`, one row per frame.
+//! The CSV table (`docs/conventions.md`, "CSV table"): `frame,time_s,r0,g0,b0,r1,...`,
+//! one row per frame.
 //!
 //! Always linear-light R, G, B per LED (the wire order does not apply), decimal
 //! bytes, `time_s` the frame's start time `k / frame_rate` in seconds with six

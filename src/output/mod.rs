@@ -15,6 +15,7 @@ mod c_header;
 mod compact;
 mod csv;
 mod error;
+pub mod files;
 mod full;
 mod reader;
 mod spec;
@@ -23,6 +24,7 @@ pub use c_header::{CHeaderText, CHeaderWriter, c_identifier};
 pub use compact::{CompactTableWriter, FADE_FRACTION_BITS, SegmentKind};
 pub use csv::CsvWriter;
 pub use error::{OutputError, ReadError};
+pub use files::FORMATS;
 pub use full::FullTableWriter;
 pub use reader::{TableView, read_table};
 pub use spec::{

@@ -2,13 +2,13 @@
 //! millimetre of stage looks there.
 //!
 //! Orthographic views look straight at the stage from one side and map a
-//! viewport (metres) onto the pixels exactly as the contract gives it:
+//! viewport (metres) onto the pixels exactly as `docs/conventions.md` ("Viewport") gives it:
 //! pixel column i, row j (row 0 at the top) covers the screen point
 //! `u = X0 + (i + 0.5)(X1 - X0)/W`, `v = Y1 - (j + 0.5)(Y1 - Y0)/H`.
 //! The perspective camera is a pinhole at an eye point looking at a target,
 //! with a vertical field of view.
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 
 use crate::num;
 
@@ -43,7 +43,7 @@ impl View {
     }
 
     /// Screen coordinates (u right, v up), metres, of stage point `p` (metres).
-    pub fn screen(self, p: &Vector3<f64>) -> [f64; 2] {
+    pub fn screen(self, p: &Vec3) -> [f64; 2] {
         match self {
             View::Front => [p.x, p.y],
             View::Side => [p.z, p.y],
@@ -56,9 +56,9 @@ impl View {
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Pinhole {
     /// Eye point, stage coordinates, metres.
-    pub eye_m: Vector3<f64>,
+    pub eye_m: Vec3,
     /// The point it looks at, stage coordinates, metres (`None`: the middle of the light).
-    pub look_at_m: Option<Vector3<f64>>,
+    pub look_at_m: Option<Vec3>,
     /// Vertical field of view, degrees (0 < fov < 180).
     pub fov_deg: f64,
 }
@@ -86,11 +86,11 @@ enum Kind {
         viewport: [f64; 4],
     },
     Pinhole {
-        eye: Vector3<f64>,
-        target: Vector3<f64>,
-        right: Vector3<f64>,
-        up: Vector3<f64>,
-        forward: Vector3<f64>,
+        eye: Vec3,
+        target: Vec3,
+        right: Vec3,
+        up: Vec3,
+        forward: Vec3,
         focal_px: f64,
         ref_dist: f64,
     },
@@ -124,13 +124,7 @@ impl Camera {
     /// view of `fov_deg`; `None` when the eye is on the target or the field
     /// of view is outside (0, 180) degrees. Up on the picture is stage +y
     /// (upstage, -z, when looking straight down or up).
-    pub fn pinhole(
-        eye: Vector3<f64>,
-        target: Vector3<f64>,
-        fov_deg: f64,
-        width: u32,
-        height: u32,
-    ) -> Option<Self> {
+    pub fn pinhole(eye: Vec3, target: Vec3, fov_deg: f64, width: u32, height: u32) -> Option<Self> {
         let d = target - eye;
         let ref_dist = d.norm();
         let ok = ref_dist > 1e-9 && fov_deg > 0.0 && fov_deg < 180.0;
@@ -138,9 +132,9 @@ impl Camera {
             return None;
         }
         let forward = d / ref_dist;
-        let mut hint = Vector3::new(0.0, 1.0, 0.0);
+        let mut hint = Vec3::new(0.0, 1.0, 0.0);
         if forward.cross(&hint).norm() < 1e-6 {
-            hint = Vector3::new(0.0, 0.0, -1.0);
+            hint = Vec3::new(0.0, 0.0, -1.0);
         }
         let right = forward.cross(&hint).normalize();
         let up = right.cross(&forward);
@@ -170,7 +164,7 @@ impl Camera {
     }
 
     /// The pinhole's eye and target (metres), or `None` when orthographic.
-    pub fn eye_and_target(&self) -> Option<(Vector3<f64>, Vector3<f64>)> {
+    pub fn eye_and_target(&self) -> Option<(Vec3, Vec3)> {
         match self.kind {
             Kind::Pinhole { eye, target, .. } => Some((eye, target)),
             Kind::Ortho { .. } => None,
@@ -194,7 +188,7 @@ impl Camera {
 
     /// Distance of `p` in front of the pinhole along its axis, metres
     /// (`None` in orthographic views).
-    pub fn depth(&self, p: &Vector3<f64>) -> Option<f64> {
+    pub fn depth(&self, p: &Vec3) -> Option<f64> {
         match self.kind {
             Kind::Pinhole { eye, forward, .. } => Some((p - eye).dot(&forward)),
             Kind::Ortho { .. } => None,
@@ -203,7 +197,7 @@ impl Camera {
 
     /// Where stage point `p` (metres) lands, or `None` when it is behind the
     /// pinhole (nearer than [`NEAR_M`]).
-    pub fn project(&self, p: &Vector3<f64>) -> Option<Projected> {
+    pub fn project(&self, p: &Vec3) -> Option<Projected> {
         match self.kind {
             Kind::Ortho { view, viewport: v } => {
                 let [u, w] = view.screen(p);
@@ -274,19 +268,19 @@ mod tests {
     use crate::model::Plane;
 
     #[test]
-    fn ortho_maps_pixel_centres_as_the_contract_gives() {
-        // Contract: column i covers x = X0 + (i + 0.5)(X1 - X0)/W.
+    fn ortho_maps_pixel_centres_as_the_conventions_give() {
+        // docs/conventions.md, "Viewport": column i covers x = X0 + (i + 0.5)(X1 - X0)/W.
         let cam = Camera::ortho(View::Front, [-1.8, 0.4, 1.8, 2.4], 360, 200);
         let (i, j) = (17.0, 150.0);
         let x = -1.8 + (i + 0.5) * 3.6 / 360.0;
         let y = 2.4 - (j + 0.5) * 2.0 / 200.0;
-        let p = cam.project(&Vector3::new(x, y, 0.7)).unwrap();
+        let p = cam.project(&Vec3::new(x, y, 0.7)).unwrap();
         assert!((p.px - (i + 0.5)).abs() < 1e-9 && (p.py - (j + 0.5)).abs() < 1e-9);
     }
 
     #[test]
     fn each_view_shows_its_planes_clock_running_clockwise() {
-        // Contract: a clock angle of 90 degrees lies along the plane's `right`
+        // docs/conventions.md, "Planes and clock angles": 90 degrees lies along `right`
         // and 0 along its `up`; seen from the front (wall), the audience's
         // left (wheel) and above (floor), 3 o'clock is on the right and
         // 12 o'clock at the top.
@@ -304,18 +298,18 @@ mod tests {
     #[test]
     fn pinhole_from_the_house_sees_stage_right_on_the_right() {
         let cam = Camera::pinhole(
-            Vector3::new(0.0, 1.5, 6.0),
-            Vector3::new(0.0, 1.5, 0.0),
+            Vec3::new(0.0, 1.5, 6.0),
+            Vec3::new(0.0, 1.5, 0.0),
             40.0,
             400,
             300,
         )
         .unwrap();
-        let c = cam.project(&Vector3::new(0.0, 1.5, 0.0)).unwrap();
+        let c = cam.project(&Vec3::new(0.0, 1.5, 0.0)).unwrap();
         assert!((c.px - 200.0).abs() < 1e-9 && (c.py - 150.0).abs() < 1e-9);
-        let r = cam.project(&Vector3::new(1.0, 2.0, 0.0)).unwrap();
+        let r = cam.project(&Vec3::new(1.0, 2.0, 0.0)).unwrap();
         assert!(r.px > 200.0 && r.py < 150.0);
-        assert!(cam.project(&Vector3::new(0.0, 1.5, 7.0)).is_none());
+        assert!(cam.project(&Vec3::new(0.0, 1.5, 7.0)).is_none());
     }
 
     #[test]

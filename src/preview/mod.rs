@@ -32,8 +32,8 @@ pub mod trail;
 
 use std::path::{Path, PathBuf};
 
+use crate::geom::Vec3;
 use image::RgbImage;
-use nalgebra::Vector3;
 use rayon::prelude::*;
 
 pub use camera::{Camera, Pinhole, View};
@@ -44,6 +44,7 @@ use crate::colour;
 use crate::cues::Lights;
 use crate::model::{Prop, Show, Strip};
 use crate::motion::PropMotion;
+use crate::prepared::Prepared;
 
 /// Largest picture side, pixels.
 pub const MAX_SIDE: u32 = 16_384;
@@ -68,16 +69,17 @@ pub enum PreviewError {
     #[error("{0}")]
     TooLarge(String),
     /// Writing a file failed.
-    #[error("cannot write `{path}`: {message}")]
+    #[error("cannot write `{}`: {source}", path.display())]
     Io {
         /// The file.
-        path: String,
+        path: PathBuf,
         /// What went wrong.
-        message: String,
+        #[source]
+        source: std::io::Error,
     },
     /// Encoding the PNG failed.
     #[error("cannot encode the PNG: {0}")]
-    Encode(String),
+    Encode(#[from] image::ImageError),
 }
 
 /// When the shutter is open. Left out: the whole show.
@@ -241,7 +243,7 @@ struct Cloud {
     view: View,
     lo: [f64; 2],
     hi: [f64; 2],
-    sum: Vector3<f64>,
+    sum: Vec3,
     n: usize,
 }
 
@@ -251,12 +253,12 @@ impl Cloud {
             view,
             lo: [0.0; 2],
             hi: [0.0; 2],
-            sum: Vector3::zeros(),
+            sum: Vec3::zeros(),
             n: 0,
         }
     }
 
-    fn add(&mut self, p: &Vector3<f64>) {
+    fn add(&mut self, p: &Vec3) {
         let q = self.view.screen(p);
         if self.n == 0 {
             (self.lo, self.hi) = (q, q);
@@ -274,7 +276,7 @@ impl Cloud {
     }
 
     /// The mean position (the origin when empty).
-    fn centre(&self) -> Vector3<f64> {
+    fn centre(&self) -> Vec3 {
         self.sum / self.n.max(1) as f64
     }
 }
@@ -312,7 +314,7 @@ fn scout_points(
     motions: &[PropMotion],
     lights: &Lights,
     (t0, t1): (f64, f64),
-    f: &mut dyn FnMut(&Vector3<f64>),
+    f: &mut dyn FnMut(&Vec3),
 ) -> Result<(), PreviewError> {
     trail::for_each_chunk(
         show,
@@ -366,13 +368,13 @@ fn make_camera(
         check_size(w, h)?;
         let target = ph
             .look_at_m
-            .unwrap_or_else(|| cloud.map_or_else(Vector3::zeros, Cloud::centre));
+            .unwrap_or_else(|| cloud.map_or_else(Vec3::zeros, Cloud::centre));
         return Camera::pinhole(ph.eye_m, target, ph.fov_deg, w, h).ok_or_else(|| {
             PreviewError::Options(format!(
                 "the camera at {:?} cannot look at {:?} with a field of view of {} degrees \
                  (the eye must not be at the target; the field of view is between 0 and 180)",
-                ph.eye_m.as_slice(),
-                target.as_slice(),
+                ph.eye_m.to_array(),
+                target.to_array(),
                 ph.fov_deg
             ))
         });
@@ -415,12 +417,11 @@ fn make_camera(
 /// film chunk by chunk, in one fixed order: the memory does not grow with
 /// the exposure, and the picture does not depend on the number of threads.
 pub fn shoot(
-    show: &Show,
-    motions: &[PropMotion],
-    lights: &Lights,
+    prepared: &Prepared,
     opts: &PreviewOptions,
     progress: &(dyn Fn(u64, u64) + Sync),
 ) -> Result<Photo, PreviewError> {
+    let (show, motions, lights) = (prepared.show(), prepared.motions(), prepared.lights());
     let (t0, t1) = window(show, &opts.shutter)?;
     if !(opts.ev_stops.is_finite() && opts.ev_stops.abs() <= MAX_EV_STOPS) {
         return Err(PreviewError::Options(format!(
@@ -506,13 +507,8 @@ pub fn develop(photo: &Photo, opts: &PreviewOptions) -> RgbImage {
 }
 
 /// Renders the long-exposure picture of `opts`: 8-bit sRGB.
-pub fn render(
-    show: &Show,
-    motions: &[PropMotion],
-    lights: &Lights,
-    opts: &PreviewOptions,
-) -> Result<RgbImage, PreviewError> {
-    let photo = shoot(show, motions, lights, opts, &|_, _| {})?;
+pub fn render(prepared: &Prepared, opts: &PreviewOptions) -> Result<RgbImage, PreviewError> {
+    let photo = shoot(prepared, opts, &|_, _| {})?;
     Ok(develop(&photo, opts))
 }
 
@@ -530,15 +526,13 @@ pub const SHOW_FILE_NAME: &str = "preview.png";
 /// before anything is written; each file is written atomically. The
 /// shutter of `opts` is ignored. Returns the files written, show first.
 pub fn write_previews(
-    show: &Show,
-    motions: &[PropMotion],
-    lights: &Lights,
+    prepared: &Prepared,
     dir: &Path,
     opts: &PreviewOptions,
 ) -> Result<Vec<PathBuf>, PreviewError> {
     let mut whole = opts.clone();
     whole.shutter = Shutter::default();
-    let photo = shoot(show, motions, lights, &whole, &|_, _| {})?;
+    let photo = shoot(prepared, &whole, &|_, _| {})?;
     let mut pictures = vec![(dir.join(SHOW_FILE_NAME), develop(&photo, &whole))];
     let mut framed = whole.clone();
     if framed.pinhole.is_none() {
@@ -550,10 +544,10 @@ pub fn write_previews(
         ph.look_at_m = Some(target);
         framed.size = Some((photo.camera.width, photo.camera.height));
     }
-    for sec in &show.sections {
+    for sec in &prepared.show().sections {
         let mut o = framed.clone();
         o.shutter.bars = Some((sec.first_bar, sec.last_bar));
-        let img = render(show, motions, lights, &o)?;
+        let img = render(prepared, &o)?;
         pictures.push((
             dir.join(section_file_name(sec.first_bar, sec.last_bar)),
             img,

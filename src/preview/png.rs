@@ -18,16 +18,16 @@ pub fn encode_png(img: &RgbImage, out: &mut dyn Write) -> Result<(), PreviewErro
         img.height(),
         ExtendedColorType::Rgb8,
     )
-    .map_err(|e| PreviewError::Encode(e.to_string()))
+    .map_err(PreviewError::from)
 }
 
 /// Writes `img` as a PNG to `path`: first to a temporary file in the same
 /// directory, then renamed over `path`, so a failure never leaves a
 /// half-written picture (and an earlier one stays as it was).
 pub fn write_png_atomic(path: &Path, img: &RgbImage) -> Result<(), PreviewError> {
-    let io = |e: std::io::Error| PreviewError::Io {
-        path: path.display().to_string(),
-        message: e.to_string(),
+    let io = |source: std::io::Error| PreviewError::Io {
+        path: path.to_path_buf(),
+        source,
     };
     let name = path
         .file_name()

@@ -28,7 +28,7 @@
 use std::collections::HashMap;
 use std::f64::consts::TAU;
 
-use nalgebra::Vector3;
+use crate::geom::Vec3;
 use rayon::prelude::*;
 
 use super::PreviewError;
@@ -56,7 +56,7 @@ pub struct Piece {
     /// Signed distance from the grip of the LEDs it comes from, metres.
     pub along_m: f64,
     /// Their position at the middle of the piece, stage coordinates, metres.
-    pub pos: Vector3<f64>,
+    pub pos: Vec3,
     /// Light given off, linear sRGB primaries, in LED-seconds (an LED at full
     /// power in one primary for one second gives 1).
     pub energy: [f64; 3],
@@ -438,7 +438,7 @@ impl Cutter<'_> {
 
 /// Where the LEDs `along_m` from the grip of `motion`'s prop are at `t`
 /// seconds, stage coordinates.
-fn position(show: &Show, motion: &PropMotion, along_m: f64, t: f64) -> Vector3<f64> {
+fn position(show: &Show, motion: &PropMotion, along_m: f64, t: f64) -> Vec3 {
     let beat = show.tempo.beat_at_time(t);
     match motion.span_at_beat(beat) {
         Some(i) => {

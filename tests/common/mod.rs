@@ -5,7 +5,10 @@ use std::path::{Path, PathBuf};
 use std::process::Command;
 use std::sync::OnceLock;
 
+use glowscore::check::{CheckReport, CheckSettings};
+use glowscore::commands::Failure;
 use glowscore::model::Show;
+use glowscore::prepared::Prepared;
 
 /// Builds the reference decoder's driver (`firmware-formats/test_decode.c`
 /// and `glowscore_table.c`) into `out` with the system C compiler, strictly:
@@ -82,6 +85,7 @@ p = {{ pattern = "x", delay_beats = {delay_beats} }}
 
 /// A show with its motion and placed lights, ready to render.
 pub struct Setup {
+    pub prepared: glowscore::prepared::Prepared,
     pub show: Show,
     pub motions: Vec<glowscore::motion::PropMotion>,
     pub lights: glowscore::cues::Lights,
@@ -90,20 +94,18 @@ pub struct Setup {
 /// The show of `text`, simulated, with its cues placed.
 #[track_caller]
 pub fn setup(text: &str) -> Setup {
-    let show = show(text);
-    let motions = glowscore::motion::simulate(&show);
-    let events = glowscore::events::find_events(&show, &motions);
-    let lights = glowscore::cues::place(&show, &motions, &events);
+    let prepared = glowscore::prepared::Prepared::new(show(text)).expect("prepares");
     Setup {
-        show,
-        motions,
-        lights,
+        show: prepared.show().clone(),
+        motions: prepared.motions().to_vec(),
+        lights: prepared.lights().clone(),
+        prepared,
     }
 }
 
 /// The exposed (undeveloped) picture of `s` with `opts`.
 pub fn shoot(s: &Setup, opts: &glowscore::preview::PreviewOptions) -> glowscore::preview::Photo {
-    glowscore::preview::shoot(&s.show, &s.motions, &s.lights, opts, &|_, _| {}).expect("renders")
+    glowscore::preview::shoot(&s.prepared, opts, &|_, _| {}).expect("renders")
 }
 
 /// Sum over LEDs and frames of LED power x the time each frame is inside
@@ -128,4 +130,14 @@ pub fn emitted(s: &Setup, window: (f64, f64)) -> [f64; 3] {
         }
     }
     sum
+}
+
+/// The check report of `show` with the default settings, prepared as every
+/// command prepares it.
+pub fn check_show(show: &Show) -> Result<CheckReport, Failure> {
+    let prepared = Prepared::new(show.clone())?;
+    Ok(glowscore::check::check(
+        &prepared,
+        &CheckSettings::default(),
+    )?)
 }
