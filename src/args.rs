@@ -70,6 +70,34 @@ pub enum Command {
     },
     /// Render a long-exposure picture of the show, or of some bars of it, as a PNG.
     Preview(Box<PreviewArgs>),
+    /// Find a song's tempo, beats, downbeats and tempo changes (WAV, FLAC, Ogg Vorbis, MP3).
+    Tempo {
+        /// The song.
+        song: PathBuf,
+        /// Print one JSON object instead of TOML for a show.
+        #[arg(long)]
+        json: bool,
+        /// Beats per bar, if known (otherwise 3 or 4 from the accents).
+        #[arg(long, value_name = "N")]
+        beats_per_bar: Option<u32>,
+        /// Search only these tempi, e.g. 80-160 (to choose between half and double).
+        #[arg(long, value_name = "LO-HI")]
+        bpm_range: Option<String>,
+    },
+    /// Write a practice WAV: the song, a click on every beat and a tone at each colour change of a prop.
+    Rehearse {
+        /// The show file (TOML).
+        show: PathBuf,
+        /// The WAV file to write.
+        #[arg(long, value_name = "FILE.wav")]
+        out: PathBuf,
+        /// The prop whose colour changes sound (default: the first).
+        #[arg(long, value_name = "P")]
+        prop: Option<String>,
+        /// The song to mix in.
+        #[arg(long, value_name = "SONG")]
+        song: Option<PathBuf>,
+    },
 }
 
 /// The binary form embedded in the C header.

@@ -20,6 +20,7 @@ pub mod folder;
 pub mod geom;
 pub mod model;
 pub mod motion;
+pub mod music;
 pub mod num;
 pub mod output;
 pub mod picture;

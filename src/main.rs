@@ -71,5 +71,27 @@ fn dispatch(command: Command) -> Result<(), Failure> {
             tolerance_mm,
         } => commands::check::run(&show, json, deny_warnings, tolerance_mm, stdout),
         Command::Preview(a) => commands::preview::run(&a.show, &a.out, &a.options(), stdout),
+        Command::Tempo {
+            song,
+            json,
+            beats_per_bar,
+            bpm_range,
+        } => {
+            let bpm_range = bpm_range
+                .as_deref()
+                .map(commands::tempo::parse_range)
+                .transpose()?;
+            let opts = glowscore::music::Options {
+                beats_per_bar,
+                bpm_range,
+            };
+            commands::tempo::run(&song, json, &opts, stdout)
+        }
+        Command::Rehearse {
+            show,
+            out,
+            prop,
+            song,
+        } => commands::rehearse::run(&show, &out, prop.as_deref(), song.as_deref()),
     }
 }

@@ -8,6 +8,8 @@ pub mod check;
 pub mod compile;
 pub mod events;
 pub mod preview;
+pub mod rehearse;
+pub mod tempo;
 
 use std::path::Path;
 
@@ -35,6 +37,9 @@ pub enum Failure {
     /// The preview could not be rendered or written.
     #[error("error: {0}\n")]
     Preview(#[from] PreviewError),
+    /// A song could not be read or analysed, or a practice track written.
+    #[error("error: {0}\n")]
+    Music(String),
     /// An option's value is out of range.
     #[error("error: {0}\n")]
     Option(String),
