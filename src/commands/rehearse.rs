@@ -9,9 +9,6 @@
 use std::path::Path;
 
 use super::Failure;
-use crate::cues::place;
-use crate::events::find_events;
-use crate::motion::simulate;
 use crate::num;
 
 /// Song level.
@@ -50,7 +47,8 @@ pub fn run(
     prop: Option<&str>,
     song: Option<&Path>,
 ) -> Result<(), Failure> {
-    let show = crate::show::load(show_path)?;
+    let prepared = super::prepare(show_path)?;
+    let show = prepared.show();
     let p = match prop {
         None => 0,
         Some(name) => show
@@ -105,12 +103,15 @@ pub fn run(
         add(&mut track, rate, t, if downbeat { &high } else { &low });
         beat += 1.0;
     }
-    let motions = simulate(&show);
-    let events = find_events(&show, &motions);
-    let lights = place(&show, &motions, &events);
     let tone = blip(rate, 660.0, TONE_GAIN, 0.08, 0.03);
-    for track_of in &lights.props[p].tracks {
-        for c in &track_of.changes {
+    let lights = &prepared.lights().props[p];
+    for track_of in &lights.tracks {
+        // Only the changes that play: a later cue may hide an earlier one.
+        for c in track_of
+            .changes
+            .iter()
+            .filter(|c| lights.plays(track_of.cue, c.frame))
+        {
             add(&mut track, rate, c.time_s, &tone);
         }
     }
