@@ -6,7 +6,7 @@
 //! Tables are streamed frame by frame (one frame buffer per prop), one prop
 //! per thread.
 
-use std::fs::{self, File};
+use std::fs::File;
 use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 
@@ -16,6 +16,7 @@ use serde::Serialize;
 use crate::check::light::{LightScan, LightTally};
 use crate::check::{CheckReport, CheckSettings, FrameFigures};
 use crate::cues::Landing;
+use crate::folder::Folder;
 use crate::model::Show;
 use crate::output::files::{FileError, Opening, PropFiles, PropTables};
 use crate::output::{TableForm, TableSpec};
@@ -99,6 +100,9 @@ pub enum CompileError {
         /// Bytes of every full table together.
         bytes: u64,
     },
+    /// The output folder could not be locked, prepared or updated.
+    #[error("{0}")]
+    Folder(#[from] crate::folder::FolderError),
     /// A file or folder could not be made, written or moved into place.
     #[error("cannot write `{}`: {source}", path.display())]
     Io {
@@ -165,30 +169,17 @@ pub fn compile(
         ..CheckSettings::default()
     };
     crate::check::within_budget(prepared, &settings)?;
-    let io = |what: &Path, e: std::io::Error| CompileError::io(what)(e);
-    fs::create_dir_all(&opts.out_dir).map_err(|e| io(&opts.out_dir, e))?;
-    let staging = opts
-        .out_dir
-        .join(format!(".glowscore-staging-{}", std::process::id()));
-    let _ = fs::remove_dir_all(&staging);
-    fs::create_dir(&staging).map_err(|e| io(&staging, e))?;
-    let result = write_all(prepared, &settings, opts, &staging);
-    let outcome = result.and_then(|(summary, report)| {
-        let mut names: Vec<String> = summary
-            .tables
-            .iter()
-            .flat_map(|(_, t)| t.files.iter().map(|(_, f)| f.file.clone()))
-            .collect();
-        names.extend(summary.previews.iter().cloned());
-        names.push("report.json".into());
-        for name in &names {
-            let to = opts.out_dir.join(name);
-            fs::rename(staging.join(name), &to).map_err(|e| io(&to, e))?;
-        }
-        Ok((summary, report))
-    });
-    let _ = fs::remove_dir_all(&staging);
-    outcome
+    let folder = Folder::open(&opts.out_dir)?;
+    let (summary, report) = write_all(prepared, &settings, opts, folder.staging())?;
+    let mut names: Vec<String> = summary
+        .tables
+        .iter()
+        .flat_map(|(_, t)| t.files.iter().map(|(_, f)| f.file.clone()))
+        .collect();
+    names.extend(summary.previews.iter().cloned());
+    names.push("report.json".into());
+    folder.commit(&names)?;
+    Ok((summary, report))
 }
 
 /// Writes every file into `dir`: the tables (gathering the light figures as
@@ -366,6 +357,7 @@ fn write_tables(
 mod tests {
     use super::*;
     use crate::output::files::THREADED_PROPS;
+    use std::fs;
 
     #[test]
     fn many_props_start_a_bounded_number_of_writing_threads() {

@@ -17,6 +17,10 @@ pub enum Severity {
     Warning,
 }
 
+/// The most errors a list of diagnostics prints; the rest are counted
+/// ("and N more errors").
+pub const MAX_PRINTED_ERRORS: usize = 50;
+
 /// A source file's name and text, shared by its diagnostics.
 #[derive(Debug)]
 pub struct Source {
@@ -24,26 +28,44 @@ pub struct Source {
     pub name: String,
     /// The whole text of the file.
     pub text: String,
+    /// Byte offset of the start of every line, in order (the first is 0).
+    line_starts: Vec<usize>,
 }
 
 impl Source {
+    /// A source file from its name and text; indexes its line starts once,
+    /// so that locating a span is a binary search.
+    pub fn new(name: impl Into<String>, text: String) -> Self {
+        let line_starts = std::iter::once(0)
+            .chain(text.match_indices('\n').map(|(i, _)| i + 1))
+            .collect();
+        Source {
+            name: name.into(),
+            text,
+            line_starts,
+        }
+    }
+
     /// Line and column (both from 1, columns in characters) of byte `offset`.
     pub fn line_col(&self, offset: usize) -> (usize, usize) {
-        let offset = offset.min(self.text.len());
-        let before = &self.text[..floor_char_boundary(&self.text, offset)];
-        let line = before.matches('\n').count() + 1;
-        let line_start = before.rfind('\n').map_or(0, |i| i + 1);
-        let col = before[line_start..].chars().count() + 1;
+        let offset = floor_char_boundary(&self.text, offset.min(self.text.len()));
+        // The last line starting at or before `offset`.
+        let line = self.line_starts.partition_point(|&s| s <= offset);
+        let line_start = self.line_starts[line - 1];
+        let col = self.text[line_start..offset].chars().count() + 1;
         (line, col)
     }
 
     /// The text of line `line` (from 1), without its newline.
     pub fn line_text(&self, line: usize) -> &str {
-        self.text
-            .lines()
-            .nth(line.saturating_sub(1))
-            .unwrap_or("")
-            .trim_end_matches('\r')
+        let Some(&start) = self.line_starts.get(line.saturating_sub(1)) else {
+            return "";
+        };
+        let end = self
+            .line_starts
+            .get(line)
+            .map_or(self.text.len(), |&next| next - 1);
+        self.text[start..end].trim_end_matches('\r')
     }
 }
 
@@ -81,6 +103,14 @@ impl Diagnostic {
             span: None,
             source: None,
             help: None,
+        }
+    }
+
+    /// A new warning with a message: printed, but the show is still used.
+    pub fn warning(message: impl Into<String>) -> Self {
+        Diagnostic {
+            severity: Severity::Warning,
+            ..Diagnostic::error(message)
         }
     }
 
@@ -187,21 +217,44 @@ impl Diagnostics {
     }
 }
 
-impl fmt::Display for Diagnostics {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        for (i, d) in self.0.iter().enumerate() {
-            if i > 0 {
-                writeln!(f)?;
-            }
-            writeln!(f, "{d}")?;
-        }
-        let n = self
-            .0
+impl Diagnostics {
+    /// The number of errors (warnings not counted).
+    pub fn error_count(&self) -> usize {
+        self.0
             .iter()
             .filter(|d| d.severity == Severity::Error)
-            .count();
-        if n > 1 {
-            writeln!(f, "{n} errors")?;
+            .count()
+    }
+}
+
+/// Prints the first [`MAX_PRINTED_ERRORS`] errors (and every warning before
+/// the cut), then how many more there are, then the count.
+impl fmt::Display for Diagnostics {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let mut errors = 0;
+        let mut printed = 0;
+        for d in &self.0 {
+            if d.severity == Severity::Error {
+                errors += 1;
+                if errors > MAX_PRINTED_ERRORS {
+                    continue;
+                }
+            } else if errors >= MAX_PRINTED_ERRORS {
+                continue;
+            }
+            if printed > 0 {
+                writeln!(f)?;
+            }
+            printed += 1;
+            writeln!(f, "{d}")?;
+        }
+        if errors > MAX_PRINTED_ERRORS {
+            let more = errors - MAX_PRINTED_ERRORS;
+            let s = if more == 1 { "" } else { "s" };
+            writeln!(f, "\nand {more} more error{s}")?;
+        }
+        if errors > 1 {
+            writeln!(f, "{errors} errors")?;
         }
         Ok(())
     }
@@ -282,13 +335,28 @@ mod tests {
 
     #[test]
     fn line_and_column_count_characters() {
-        let s = Source {
-            name: "a.toml".into(),
-            text: "x = 1\ny = \"é\" z\n".into(),
-        };
+        let s = Source::new("a.toml", "x = 1\ny = \"é\" z\n".into());
         assert_eq!(s.line_col(0), (1, 1));
         assert_eq!(s.line_col(6), (2, 1));
         let z = s.text.find('z').unwrap();
         assert_eq!(s.line_col(z), (2, 9));
+        // The newline itself ends its line; past the end is the last line.
+        assert_eq!(s.line_col(5), (1, 6));
+        assert_eq!(s.line_col(1000), (3, 1));
+        assert_eq!(s.line_text(2), "y = \"é\" z");
+        assert_eq!(s.line_text(3), "");
+        assert_eq!(s.line_text(9), "");
+    }
+
+    #[test]
+    fn at_most_fifty_errors_are_printed_then_the_rest_counted() {
+        let src = std::sync::Arc::new(Source::new("a.toml", "x\n".repeat(80)));
+        let all: Vec<Diagnostic> = (0..80)
+            .map(|i| Diagnostic::error(format!("bad {i}")).at(&src, 2 * i..2 * i + 1))
+            .collect();
+        let text = Diagnostics(all).to_string();
+        assert!(text.contains("a.toml:50:1: error: bad 49"), "{text}");
+        assert!(!text.contains("bad 50"), "{text}");
+        assert!(text.contains("and 30 more errors\n80 errors\n"), "{text}");
     }
 }

@@ -16,6 +16,7 @@ pub mod cues;
 pub mod diag;
 pub mod events;
 pub mod flash;
+pub mod folder;
 pub mod geom;
 pub mod model;
 pub mod motion;

@@ -11,6 +11,11 @@ use clap::Parser;
 use glowscore::commands::{self, Failure};
 
 fn main() -> ExitCode {
+    // Ctrl-C: no half-written staging folder is left behind.
+    let _ = ctrlc::set_handler(|| {
+        glowscore::folder::abandon_staging();
+        std::process::exit(130);
+    });
     match dispatch(Cli::parse().command) {
         Ok(()) => ExitCode::SUCCESS,
         // A reader that stopped early (`glowscore events | head`): done.

@@ -224,6 +224,7 @@ pub fn scan_pair(
                 line: None,
                 cue: None,
             each: Vec::new(),
+            expected: None,
                 prop: na.clone(),
                 other_prop: Some(nb.clone()),
                 at: When::at_beat(show, s.start),

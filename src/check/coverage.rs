@@ -538,6 +538,7 @@ fn warning(
         line: None,
         cue: None,
         each: Vec::new(),
+        expected: None,
         prop: name.clone(),
         other_prop: None,
         at: When::at_beat(show, start),

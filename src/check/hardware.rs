@@ -1,9 +1,10 @@
 //! Will it play on the prop: the LED line's refresh limit, whether the
 //! tables fit the prop's memory, and how far the prop's clock drifts.
 //!
-//! One-wire timing is the figure common LED data sheets give, recalled from
-//! memory: 800 kbit/s (1.25 us per bit), 8 bits per colour channel, and a
-//! latch (reset) gap of at least 50 us after each frame. A clocked two-wire
+//! Data-only timing (a line without a clock, the bits told apart by pulse
+//! width) is the figure common LED data sheets give, recalled from memory:
+//! 800 kbit/s (1.25 us per bit), 8 bits per colour channel, and a latch
+//! (reset) gap of at least 50 us after each frame. A data-and-clock
 //! line sends a 32-bit start frame, 32 bits per LED and an end frame of at
 //! least half a bit per LED (rounded up to whole bytes), at the line's
 //! clock (also from memory). Clock drift is the tolerance times the show's
@@ -18,8 +19,8 @@ use crate::cues::Lights;
 use crate::model::{LedDriver, Prop, Show};
 use crate::output::{CompactTableWriter, HEADER_LEN, TRAILER_LEN, TableSpec};
 
-/// One-wire bit time, seconds (800 kbit/s; from memory of common data sheets).
-pub const ONE_WIRE_BIT_S: f64 = 1.25e-6;
+/// Data-only bit time, seconds (800 kbit/s; from memory of common data sheets).
+pub const DATA_ONLY_BIT_S: f64 = 1.25e-6;
 /// How far a performer's own moves spread about the beat they follow,
 /// seconds: people who move to music land within a few tens of
 /// milliseconds of the beat (from memory of studies of moving in time with
@@ -28,8 +29,8 @@ pub const ONE_WIRE_BIT_S: f64 = 1.25e-6;
 /// closer to the music than the performer is.
 pub const PERFORMER_SPREAD_S: f64 = 0.020;
 
-/// One-wire latch (reset) gap after each frame, seconds (from memory).
-pub const ONE_WIRE_LATCH_S: f64 = 50e-6;
+/// Data-only latch (reset) gap after each frame, seconds (from memory).
+pub const DATA_ONLY_LATCH_S: f64 = 50e-6;
 
 /// The hardware figures of one prop.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -75,10 +76,10 @@ impl HardwareFigures {
 pub fn max_frame_rate_hz(driver: LedDriver, leds: u32, bytes_per_led: usize) -> f64 {
     let leds = f64::from(leds);
     match driver {
-        LedDriver::OneWire => {
-            1.0 / (8.0 * bytes_per_led as f64 * ONE_WIRE_BIT_S * leds + ONE_WIRE_LATCH_S)
+        LedDriver::DataOnly => {
+            1.0 / (8.0 * bytes_per_led as f64 * DATA_ONLY_BIT_S * leds + DATA_ONLY_LATCH_S)
         }
-        LedDriver::Clocked { clock_hz } => {
+        LedDriver::DataClock { clock_hz } => {
             let end_bits = 8.0 * (leds / 16.0).ceil();
             clock_hz / (32.0 + 32.0 * leds + end_bits)
         }
@@ -176,6 +177,7 @@ pub fn scan(
             line: None,
             cue: None,
             each: Vec::new(),
+            expected: None,
             prop: prop.name.clone(),
             other_prop: None,
             at: start,
@@ -262,8 +264,8 @@ pub fn scan(
 
 fn driver_name(prop: &Prop) -> &'static str {
     match prop.led_driver {
-        LedDriver::OneWire => "one-wire",
-        LedDriver::Clocked { .. } => "clocked",
+        LedDriver::DataOnly => "data-only",
+        LedDriver::DataClock { .. } => "data-and-clock",
     }
 }
 
@@ -272,23 +274,23 @@ mod tests {
     use super::*;
 
     #[test]
-    fn one_hundred_one_wire_leds_refresh_at_about_328_hz() {
-        // Common one-wire LED data sheets (from memory): 1.25 us per bit,
+    fn one_hundred_data_only_leds_refresh_at_about_328_hz() {
+        // Common data-only LED data sheets (from memory): 1.25 us per bit,
         // 24 bits per RGB LED, a latch of at least 50 us: 100 LEDs take
         // 3000 + 50 us, about 328 frames per second at most.
-        let r = max_frame_rate_hz(LedDriver::OneWire, 100, 3);
+        let r = max_frame_rate_hz(LedDriver::DataOnly, 100, 3);
         assert!(
             (r - 1.0 / 3.05e-3).abs() < 1e-9 && (327.0..329.0).contains(&r),
             "{r}"
         );
         // RGBW takes 32 bits per LED.
-        assert!((max_frame_rate_hz(LedDriver::OneWire, 100, 4) - 1.0 / 4.05e-3).abs() < 1e-9);
+        assert!((max_frame_rate_hz(LedDriver::DataOnly, 100, 4) - 1.0 / 4.05e-3).abs() < 1e-9);
     }
 
     #[test]
-    fn clocked_line_counts_start_led_and_end_frames() {
+    fn data_and_clock_line_counts_start_led_and_end_frames() {
         // 64 LEDs at 1 MHz: 32 + 64 x 32 + 8 x 4 = 2112 bits per frame.
-        let r = max_frame_rate_hz(LedDriver::Clocked { clock_hz: 1e6 }, 64, 3);
+        let r = max_frame_rate_hz(LedDriver::DataClock { clock_hz: 1e6 }, 64, 3);
         assert!((r - 1e6 / 2112.0).abs() < 1e-9);
     }
 

@@ -108,6 +108,7 @@ pub fn jumps(show: &Show, motion: &PropMotion, limit_m: f64) -> Vec<Warning> {
                 line: None,
                 cue: None,
             each: Vec::new(),
+            expected: None,
                 prop: name.clone(),
                 other_prop: None,
                 at,

@@ -131,6 +131,7 @@ pub fn scan(
                 line: None,
                 cue: None,
             each: Vec::new(),
+            expected: None,
                 prop: entry.prop.clone(),
                 other_prop: None,
                 at: When::at_beat(show, show.tempo.beat_at_time(w.event_s)),

@@ -29,6 +29,7 @@ pub(crate) fn scan(show: &Show, lights: &Lights) -> Vec<Warning> {
                 line: None,
                 cue: Some(h.cue),
                 each: Vec::new(),
+                expected: None,
                 prop: show.props[pl.prop].name.clone(),
                 other_prop: None,
                 at: a,

@@ -155,6 +155,11 @@ pub struct Warning {
     /// cue's.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub cue: Option<usize>,
+    /// Why the show expects it (its `[[expected]]` entry), when it does: an
+    /// expected warning is reported all the same, and `--deny-warnings`
+    /// passes over it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub expected: Option<String>,
     /// Each time it happened, when it happened more than once.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub each: Vec<Instance>,
@@ -190,6 +195,7 @@ impl Warning {
                 count: 1,
                 bars: [i.at.bar, i.at.bar],
                 each: Vec::new(),
+                expected: None,
                 ..self.clone()
             })
             .collect()
@@ -497,6 +503,14 @@ fn props_as_map<S: Serializer>(props: &[PropFigures], s: S) -> Result<S::Ok, S::
 }
 
 impl CheckReport {
+    /// The warnings the show does not expect.
+    pub fn unexpected_warnings(&self) -> usize {
+        self.warnings
+            .iter()
+            .filter(|w| w.expected.is_none())
+            .count()
+    }
+
     /// The report of an invalid show: `valid = false` and its errors.
     pub fn invalid(diags: &crate::diag::Diagnostics) -> CheckReport {
         let errors: Vec<ErrorEntry> = diags

@@ -48,11 +48,24 @@ impl CheckReport {
         if !self.paintings.is_empty() {
             write_paintings(out, &self.paintings)?;
         }
-        writeln!(out, "\nWarnings: {}", self.warnings.len())?;
+        let expected = self.warnings.len() - self.unexpected_warnings();
+        if expected > 0 {
+            writeln!(
+                out,
+                "\nWarnings: {} ({expected} expected by the show)",
+                self.warnings.len()
+            )?;
+        } else {
+            writeln!(out, "\nWarnings: {}", self.warnings.len())?;
+        }
         for w in &self.warnings {
             let line = w
                 .line
                 .map_or_else(String::new, |l| format!(" (show line {l})"));
+            let line = match &w.expected {
+                Some(why) => format!("{line} [expected: {why}]"),
+                None => line,
+            };
             writeln!(
                 out,
                 "  {:>10.3} s  bar {} beat {:.3}  {:<9}  {}{line}",

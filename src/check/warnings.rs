@@ -42,6 +42,16 @@ pub(crate) fn gather(show: &Show, mut raw: Vec<Warning>) -> Vec<Warning> {
             );
         }
         w.line = line_of(show, w);
+        w.expected = show
+            .expected
+            .iter()
+            .find(|e| {
+                e.kind == w.kind.name()
+                    && e.prop.as_ref().is_none_or(|p| *p == w.prop)
+                    && e.bars
+                        .is_none_or(|(a, b)| i64::from(a) <= w.bars[0] && w.bars[1] <= i64::from(b))
+            })
+            .map(|e| e.why.clone());
     }
     out.sort_by(|a, b| {
         a.at.time_s
@@ -150,6 +160,26 @@ fn section_at(show: &Show, bar: u32) -> Option<usize> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_show_reader_knows_every_warning_kind() {
+        let all = [
+            WarningKind::Slack,
+            WarningKind::SpinRate,
+            WarningKind::Collision,
+            WarningKind::Jump,
+            WarningKind::Flash,
+            WarningKind::Current,
+            WarningKind::Landing,
+            WarningKind::Refresh,
+            WarningKind::Memory,
+            WarningKind::Drift,
+            WarningKind::Coverage,
+            WarningKind::Overlap,
+        ];
+        let names: Vec<&str> = all.iter().map(|k| k.name()).collect();
+        assert_eq!(names, crate::model::WARNING_KINDS);
+    }
 
     #[test]
     fn short_numbers_read_as_written() {

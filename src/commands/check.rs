@@ -51,7 +51,7 @@ pub fn run(
     } else {
         report.write_text(out).map_err(&io)?;
     }
-    let n = report.warnings.len();
+    let n = report.unexpected_warnings();
     if deny_warnings && n > 0 {
         return Err(Failure::Warnings(n));
     }

@@ -47,7 +47,7 @@ pub enum Failure {
         source: std::io::Error,
     },
     /// The show is fine but `--deny-warnings` was given and it has warnings.
-    #[error("error: {0} warning{s} and --deny-warnings was given\n", s = if *.0 == 1 { "" } else { "s" })]
+    #[error("error: {0} warning{s} the show does not expect (no `[[expected]]` entry) and --deny-warnings was given\n", s = if *.0 == 1 { "" } else { "s" })]
     Warnings(usize),
 }
 

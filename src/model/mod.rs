@@ -9,10 +9,12 @@ use std::sync::Arc;
 use crate::geom::Vec3;
 
 use crate::diag::Source;
+mod names;
 mod tempo;
 mod wire;
 
 pub use crate::picture::{FixedTo, Picture, PicturePlacement};
+pub use names::c_identifier;
 pub use tempo::TempoMap;
 pub use wire::WireOrder;
 
@@ -33,8 +35,13 @@ pub struct Show {
     pub sections: Vec<Section>,
     /// The colour cues, in file order (later ones win where they overlap).
     pub cues: Vec<Cue>,
+    /// Warnings the show's author expects (`[[expected]]`), in file order.
+    pub expected: Vec<Expected>,
     /// The show file, for diagnostics that point into it.
     pub source: Arc<Source>,
+    /// The reader's warnings (old key values still read, and the like):
+    /// the show is used, and every command prints them.
+    pub notes: Vec<crate::diag::Diagnostic>,
 }
 
 /// What kind of prop it is.
@@ -225,10 +232,12 @@ impl Prop {
 /// The family of LED driver on a prop's data line.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub enum LedDriver {
-    /// One data wire at 800 kbit/s, 1.25 us per bit, then a latch gap.
-    OneWire,
-    /// A data and a clock wire, at `clock_hz` bits per second.
-    Clocked {
+    /// A data line alone (the bits timed by pulse width) at 800 kbit/s,
+    /// 1.25 us per bit, then a latch gap (`data_only` in a show).
+    DataOnly,
+    /// A data line beside a clock line, at `clock_hz` bits per second
+    /// (`data_clock` in a show).
+    DataClock {
         /// The data clock, hertz.
         clock_hz: f64,
     },
@@ -465,6 +474,37 @@ impl Cue {
             Look::Image(_) => "image",
         }
     }
+}
+
+/// The names of the check's warning kinds, as `[[expected]]` gives them.
+pub const WARNING_KINDS: &[&str] = &[
+    "slack",
+    "spin_rate",
+    "collision",
+    "jump",
+    "flash",
+    "current",
+    "landing",
+    "refresh",
+    "memory",
+    "drift",
+    "coverage",
+    "overlap",
+];
+
+/// A warning the show's author knows of and means (`[[expected]]`).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Expected {
+    /// Where its table starts in the show file, bytes.
+    pub offset: usize,
+    /// The warning kind, one of [`WARNING_KINDS`].
+    pub kind: &'static str,
+    /// The prop it is about (`(stage)` for the whole stage); any when `None`.
+    pub prop: Option<String>,
+    /// First and last bar it may fall in, inclusive; anywhere when `None`.
+    pub bars: Option<(u32, u32)>,
+    /// Why it is expected, in the author's words.
+    pub why: String,
 }
 
 impl Show {

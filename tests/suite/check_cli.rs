@@ -136,10 +136,11 @@ fn output_is_repeatable_byte_for_byte() {
 
 #[test]
 fn a_show_too_fast_to_check_fails_instead_of_hanging() {
-    // 10 000 head turns per beat for 400 beats: over the sample budget.
+    // 64 head turns per beat (the fastest a pattern may be) for 400 000
+    // beats: over the sample budget.
     let text = show(false)
-        .replace("beats = 1\n", "beats = 0.0001\n")
-        .replace("bars = [1, 2]", "bars = [1, 100]");
+        .replace("beats = 1\n", "beats = 0.015625\n")
+        .replace("bars = [1, 2]", "bars = [1, 100000]");
     let path = write("too-fast.toml", &text);
     let out = run(&["check", path.to_str().unwrap(), "--json"]);
     assert_eq!(out.status.code(), Some(1));

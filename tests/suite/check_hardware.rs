@@ -24,8 +24,8 @@ fn kinds(r: &glowscore::check::report::CheckReport) -> Vec<&'static str> {
 }
 
 #[test]
-fn one_wire_line_of_100_leds_cannot_play_500_frames_per_second() {
-    // From memory of common one-wire LED data sheets: 1.25 us per bit, 24
+fn data_only_line_of_100_leds_cannot_play_500_frames_per_second() {
+    // From memory of common data-only LED data sheets: 1.25 us per bit, 24
     // bits per RGB LED, a latch of at least 50 us: about 328 frames/s.
     let r = report(&show("", 500, 2));
     let h = r.props[0].hardware.as_ref().unwrap();
@@ -37,9 +37,9 @@ fn one_wire_line_of_100_leds_cannot_play_500_frames_per_second() {
     assert!(kinds(&r).contains(&"refresh"));
     let ok = report(&show("", 300, 2));
     assert!(!kinds(&ok).contains(&"refresh"));
-    // A clocked line at 8 MHz plays it.
+    // A data-and-clock line at 8 MHz plays it.
     let clocked = report(&show(
-        "led_driver = \"clocked\"\ndriver_clock_hz = 8e6",
+        "led_driver = \"data_clock\"\ndriver_clock_hz = 8e6",
         500,
         2,
     ));

@@ -1,15 +1,20 @@
 //! Bad show files in `tests/bad/`, each carrying its expected errors as
-//! comments: `# error: LINE:COL KEY: MESSAGE [| HELP]`. Every error the
-//! file produces must be expected, and every expected error must appear.
+//! comments: `# error: LINE:COL KEY: MESSAGE [| HELP]` (and warnings as
+//! `# warning: ...`). Every error and warning the file produces must be
+//! expected, and every expected one must appear.
 
 use std::path::Path;
 
-use glowscore::diag::Diagnostic;
+use glowscore::diag::{Diagnostic, Severity};
 
 fn render(d: &Diagnostic) -> (String, String) {
     let (_, line, col) = d.location().unwrap_or_default();
+    let label = match d.severity {
+        Severity::Error => "error",
+        Severity::Warning => "warning",
+    };
     let head = format!(
-        "{line}:{col} {}: {}",
+        "{label}: {line}:{col} {}: {}",
         d.key.clone().unwrap_or_default(),
         d.message
     );
@@ -20,7 +25,8 @@ fn check_file(path: &Path) {
     let text = std::fs::read_to_string(path).unwrap();
     let expected: Vec<(String, Option<String>)> = text
         .lines()
-        .filter_map(|l| l.strip_prefix("# error: "))
+        .filter_map(|l| l.strip_prefix("# "))
+        .filter(|l| l.starts_with("error: ") || l.starts_with("warning: "))
         .map(|e| match e.split_once(" | ") {
             Some((head, help)) => (head.to_string(), Some(help.to_string())),
             None => (e.to_string(), None),
@@ -75,7 +81,7 @@ fn diagnostics_render_file_line_column_and_a_caret() {
         .unwrap_err();
     let text = err.to_string();
     assert!(
-        text.contains("show.toml:3:7: error in `show.bpm`: must be greater than 0"),
+        text.contains("show.toml:3:7: error in `show.bpm`: must be between 1 and 1000, got -1"),
         "{text}"
     );
     assert!(text.contains("3 | bpm = -1\n  |       ^^"), "{text}");
@@ -103,4 +109,84 @@ fn a_show_path_that_is_not_a_file_is_refused() {
     let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR"));
     let err = glowscore::show::load(dir).unwrap_err().to_string();
     assert!(err.contains("is not a file"), "{err}");
+}
+
+#[test]
+fn a_show_file_that_is_not_utf8_is_refused_at_its_bad_byte() {
+    // 0xFF never occurs in UTF-8 (RFC 3629, section 1): on line 3 it comes
+    // after the five characters `x = "`, so it is column 6.
+    let mut bytes = b"[show]\nframe_rate = 100\nx = \"".to_vec();
+    bytes.push(0xff);
+    bytes.extend_from_slice(b"\"\n");
+    let err = glowscore::show::parse_bytes("latin.toml", bytes).unwrap_err();
+    assert_eq!(err.0.len(), 1);
+    let d = &err.0[0];
+    assert_eq!(d.location(), Some(("latin.toml".to_string(), 3, 6)));
+    assert!(
+        d.message.contains("not UTF-8") && d.message.contains("0xff"),
+        "{d}"
+    );
+    // A two-byte character before it counts as one column; a lead byte
+    // without its continuation byte is as bad (RFC 3629, section 3).
+    let mut bytes = "é = \"".as_bytes().to_vec();
+    bytes.push(0xc3); // a lead byte with no continuation
+    bytes.push(b'"');
+    let err = glowscore::show::parse_bytes("t.toml", bytes).unwrap_err();
+    assert_eq!(err.0[0].location(), Some(("t.toml".to_string(), 1, 6)));
+}
+
+#[test]
+fn the_old_driver_name_is_read_with_a_warning_not_an_error() {
+    let text = "[show]\nframe_rate = 100\nbpm = 100\n\
+                [prop.p]\ntether_m = 0.5\nanchor_m = [0, 1.5, 0]\nled_driver = \"one_wire\"\n\
+                [pattern.x]\nplane = \"wall\"\nbeats = 4\nhand_radius_m = 0.1\nhead_turns = 1\n\
+                [[section]]\nbars = [1, 2]\np = \"x\"\n";
+    let show = glowscore::show::parse("old.toml", text.into()).expect("a warning only");
+    assert_eq!(
+        show.props[0].led_driver,
+        glowscore::model::LedDriver::DataOnly
+    );
+    assert_eq!(show.notes.len(), 1);
+    let note = &show.notes[0];
+    assert_eq!(note.severity, Severity::Warning);
+    assert_eq!(note.location(), Some(("old.toml".to_string(), 7, 14)));
+    assert!(
+        note.to_string()
+            .starts_with("old.toml:7:14: warning in `prop.p.led_driver`")
+    );
+    // The new name reads without a note.
+    let show = glowscore::show::parse("new.toml", text.replace("one_wire", "data_only")).unwrap();
+    assert!(show.notes.is_empty());
+}
+
+/// 45 000 valid patterns, then 5 000 patterns in error (`beats = 0`).
+fn huge_invalid_show() -> String {
+    let mut text = String::from("[show]\nframe_rate = 100\nbpm = 100\n");
+    text.push_str("[prop.p]\ntether_m = 0.5\nanchor_m = [0, 1.5, 0]\n");
+    for i in 0..50_000 {
+        let beats = if i < 45_000 { 4 } else { 0 };
+        text.push_str(&format!(
+            "[pattern.q{i}]\nplane = \"wall\"\nbeats = {beats}\nhand_radius_m = 0.1\nhead_turns = 1\n"
+        ));
+    }
+    text.push_str("[[section]]\nbars = [1, 2]\np = \"q0\"\n");
+    text
+}
+
+#[test]
+fn a_huge_invalid_show_reports_every_error_and_prints_fifty() {
+    // Timing is measured by hand (DEVELOPERS.md), not here: this checks
+    // the count and the cap.
+    let err = glowscore::show::parse("huge.toml", huge_invalid_show()).unwrap_err();
+    assert_eq!(err.error_count(), 5_000);
+    let first = err.0[0].location().unwrap();
+    // Pattern q45000 starts on line 7 + 45 000 * 5: its `beats` is 2 lines on.
+    assert_eq!((first.1, first.2), (6 + 45_000 * 5 + 3, 9));
+    let text = err.to_string();
+    assert_eq!(text.matches(": error in `pattern.").count(), 50);
+    assert!(
+        text.contains("\nand 4950 more errors\n5000 errors\n"),
+        "{}",
+        &text[text.len() - 200..]
+    );
 }

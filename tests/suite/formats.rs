@@ -190,7 +190,7 @@ impl Iterator for ShowGen {
             }
             Piece::Noise(_) => (0..leds).map(|_| self.rng.colour()).collect(),
             Piece::Strobe(a, b, _) => {
-                if j % 2 == 0 {
+                if j.is_multiple_of(2) {
                     a.clone()
                 } else {
                     b.clone()

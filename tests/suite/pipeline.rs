@@ -425,3 +425,128 @@ fn events_filter_by_prop_kind_and_bars_and_stop_quietly_on_a_closed_pipe() {
         String::from_utf8_lossy(&out.stderr)
     );
 }
+
+#[test]
+fn the_output_folder_keeps_one_set_of_files() {
+    use glowscore::folder::{Folder, FolderError, LOCK_FILE, MANIFEST_FILE};
+    let dir = folder("set");
+    let show = write_show(&dir);
+    let out = dir.join("out");
+    let compile = |show: &Path| {
+        bin()
+            .args([
+                "compile",
+                show.to_str().unwrap(),
+                "--out",
+                out.to_str().unwrap(),
+                "--no-previews",
+            ])
+            .output()
+            .unwrap()
+    };
+    assert!(compile(&show).status.success());
+    // A file of the maker's own and a staging folder of a run killed earlier.
+    std::fs::write(out.join("notes.txt"), "mine").unwrap();
+    std::fs::create_dir_all(out.join(".glowscore-staging-999999/x")).unwrap();
+    // Prop `b` is renamed `b2`: its old files go, the new ones come.
+    let renamed = dir.join("renamed.toml");
+    let text = std::fs::read_to_string(&show)
+        .unwrap()
+        .replace("[prop.b]", "[prop.b2]")
+        .replace("prop = \"b\"", "prop = \"b2\"")
+        .replace("\nb = {", "\nb2 = {");
+    std::fs::write(&renamed, text).unwrap();
+    let run = compile(&renamed);
+    assert!(
+        run.status.success(),
+        "{}",
+        String::from_utf8_lossy(&run.stderr)
+    );
+    let mut names: Vec<String> = std::fs::read_dir(&out)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    for stale in ["b.csv", "b.full.bin", "b.compact.bin", "b.h"] {
+        assert!(
+            !names.contains(&stale.to_string()),
+            "{stale} left: {names:?}"
+        );
+    }
+    for new in [
+        "b2.csv",
+        "b2.h",
+        "a.csv",
+        "report.json",
+        "notes.txt",
+        MANIFEST_FILE,
+        LOCK_FILE,
+    ] {
+        assert!(names.contains(&new.to_string()), "{new} missing: {names:?}");
+    }
+    assert!(
+        !names.iter().any(|n| n.starts_with(".glowscore-staging")),
+        "{names:?}"
+    );
+    let manifest = std::fs::read_to_string(out.join(MANIFEST_FILE)).unwrap();
+    assert!(manifest.lines().any(|l| l == "b2.csv") && !manifest.contains("notes.txt"));
+    // While a compile holds the folder, another is refused and changes
+    // nothing.
+    let held = Folder::open(&out).unwrap();
+    let before = std::fs::read(out.join("a.csv")).unwrap();
+    let refused = compile(&show);
+    assert_eq!(refused.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&refused.stderr);
+    assert!(
+        err.contains("another glowscore compile is writing into"),
+        "{err}"
+    );
+    assert_eq!(std::fs::read(out.join("a.csv")).unwrap(), before);
+    assert!(out.join("b2.csv").exists());
+    assert!(matches!(Folder::open(&out), Err(FolderError::Busy { .. })));
+    drop(held);
+    assert!(compile(&show).status.success());
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
+fn the_demos_expect_their_warnings_and_pass_deny_warnings() {
+    let shows = Path::new(env!("CARGO_MANIFEST_DIR")).join("shows");
+    let mut checked = 0;
+    for entry in std::fs::read_dir(&shows).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().is_none_or(|e| e != "toml") {
+            continue;
+        }
+        let out = bin()
+            .args(["check", path.to_str().unwrap(), "--deny-warnings", "--json"])
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "{}: {}",
+            path.display(),
+            String::from_utf8_lossy(&out.stderr)
+        );
+        // Expected warnings are still reported, with their reason.
+        let r: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        for w in r["warnings"].as_array().unwrap() {
+            assert!(w["expected"].is_string(), "{}: {w}", path.display());
+        }
+        checked += 1;
+    }
+    assert!(checked >= 3);
+    // Without its `[[expected]]` entries the same show fails the denial.
+    let text = std::fs::read_to_string(shows.join("moth-garden.toml")).unwrap();
+    let cut = text.find("[[expected]]").unwrap();
+    let dir = folder("expected");
+    let bare = dir.join("bare.toml");
+    std::fs::write(&bare, &text[..cut]).unwrap();
+    let out = bin()
+        .args(["check", bare.to_str().unwrap(), "--deny-warnings"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("does not expect"));
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -174,16 +174,18 @@ fn a_chase_moves_bands_of_colour_along_the_strip() {
 
 #[test]
 fn a_chase_of_the_narrowest_bands_shows_its_colours_without_overflowing() {
-    // `chase_width_leds` may be any width above 0: bands of 1e-300 LEDs
-    // number far beyond any integer type, and every LED still shows one of
-    // the cue's colours, the band it is in taken round the cycle.
+    // The narrowest band the reader accepts, a hundredth of an LED: every
+    // LED still shows one of the cue's colours, the band it is in taken
+    // round the cycle. (Narrower ones, down to 1e-300 LEDs, are refused
+    // where they are written: see tests/bad/.)
+    let cue = "[[cue]]\nprop = \"p\"\nbars = [1, 1]\nat = \"beat\"\nalong = \"chase\"\n\
+               chase_leds_per_beat = 3\nchase_width_leds = 0.01\ncolours = [\"red\", \"blue\"]";
     let s = show(
         100,
         "tether_m = 0.5\nstrip = { leds = 8, from_m = 0.1, to_m = 0.5 }",
         "beats = 4\nhand_radius_m = 0.1\nhead_turns = 1",
         1,
-        "[[cue]]\nprop = \"p\"\nbars = [1, 1]\nat = \"beat\"\nalong = \"chase\"\n\
-         chase_leds_per_beat = 3\nchase_width_leds = 1e-300\ncolours = [\"red\", \"blue\"]",
+        cue,
     );
     let l = lights(&s);
     for k in 0..400 {
