@@ -2,7 +2,7 @@
 //! maximum of the head's distance from the anchor, every inner point a local
 //! minimum, and every stall a local minimum of speed below the threshold.
 
-mod common;
+use crate::common;
 
 use glowscore::events::{STALL_FRACTION, find_events, span_stats};
 use glowscore::model::EventKind;

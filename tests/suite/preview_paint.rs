@@ -4,7 +4,7 @@
 //! The pictures painted here are drawn in code (discs of one colour on a
 //! transparent ground) and written to the test's temporary folder.
 
-mod common;
+use crate::common;
 
 use std::path::{Path, PathBuf};
 

@@ -2,7 +2,7 @@
 //! reference C decoder reproducing every frame, and failed runs leaving
 //! earlier outputs untouched.
 
-mod common;
+use crate::common;
 
 use std::path::{Path, PathBuf};
 use std::process::Command;

@@ -1,7 +1,7 @@
 //! Facts of the trade about antispin flowers (common practice, no source),
 //! and the tempo map.
 
-mod common;
+use crate::common;
 
 use glowscore::events::{find_events, span_stats};
 use glowscore::model::EventKind;

@@ -3,7 +3,7 @@
 //! section on plane curves: deltoid, astroid, cardioid and nephroid cusp
 //! counts, arc lengths and areas.
 
-mod common;
+use crate::common;
 
 use std::f64::consts::PI;
 

@@ -8,7 +8,7 @@
 //! picture are written to the target directory and the first differing
 //! pixel is named.
 
-mod common;
+use crate::common;
 
 use std::path::{Path, PathBuf};
 use std::process::Command;

@@ -2,7 +2,7 @@
 //! chases along a strip, and pictures painted by each LED's position,
 //! checked against frames worked out by hand.
 
-mod common;
+use crate::common;
 
 use std::path::{Path, PathBuf};
 use std::process::Command;

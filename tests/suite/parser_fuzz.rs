@@ -5,9 +5,9 @@
 
 use proptest::prelude::*;
 
-const DEMO: &str = include_str!("../shows/moth-garden.toml");
-const REEL: &str = include_str!("../shows/salt-marsh-reel.toml");
-const LANTERNS: &str = include_str!("../shows/eelgrass-lanterns.toml");
+const DEMO: &str = include_str!("../../shows/moth-garden.toml");
+const REEL: &str = include_str!("../../shows/salt-marsh-reel.toml");
+const LANTERNS: &str = include_str!("../../shows/eelgrass-lanterns.toml");
 
 fn run(text: String) {
     // Named as if in `shows/`, so that the staff show's picture is found.

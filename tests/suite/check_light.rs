@@ -16,7 +16,7 @@
 //! - Uniform circular motion (Halliday, Resnick and Walker, Fundamentals of
 //!   Physics): speed 2 pi r / T, arc travelled v dt.
 
-mod common;
+use crate::common;
 
 use std::f64::consts::PI;
 

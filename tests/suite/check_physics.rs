@@ -8,7 +8,7 @@
 //!   2 r sin(d / 2); a point at clock 90 deg about c is c + r * right.
 //! - Spin rates beyond about 3 head turns per second (common practice).
 
-mod common;
+use crate::common;
 
 use std::f64::consts::{PI, TAU};
 

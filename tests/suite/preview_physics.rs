@@ -1,7 +1,7 @@
 //! The long-exposure renderer against the physics of photography and
 //! handbook geometry. Each check names its source.
 
-mod common;
+use crate::common;
 
 use glowscore::geom::{Mat3, Vec3};
 use glowscore::preview::{self, Film, Pinhole, PreviewOptions, Shutter, View};

@@ -12,7 +12,7 @@
 //! - Uniform circular motion: speed w r (Halliday, Resnick and Walker).
 //! - The 90 % limit is our own choice (`MIN_COVERED_FRACTION`).
 
-mod common;
+use crate::common;
 
 use std::f64::consts::{PI, TAU};
 use std::sync::Arc;

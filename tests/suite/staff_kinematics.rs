@@ -17,7 +17,7 @@
 //! - C. Ericson, Real-Time Collision Detection (2005), 5.1.9: the distance
 //!   between two segments that cross is 0.
 
-mod common;
+use crate::common;
 
 use std::f64::consts::{PI, TAU};
 

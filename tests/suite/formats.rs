@@ -1,7 +1,7 @@
 //! Frame-table formats end to end: every writer on deterministic show-like frames, the Rust
 //! reader, and the C99 reference decoder compiled with the system compiler.
 
-mod common;
+use crate::common;
 
 use std::io::{self, Write};
 use std::path::{Path, PathBuf};
