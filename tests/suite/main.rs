@@ -15,6 +15,7 @@ mod format_docs;
 mod formats;
 mod formats_props;
 mod handbook_curves;
+mod music;
 mod parser_fuzz;
 mod picture;
 mod pipeline;
