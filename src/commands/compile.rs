@@ -96,11 +96,17 @@ pub fn run(
     if !summary.previews.is_empty() {
         writeln!(log, "  previews: {}", summary.previews.join(", ")).map_err(&io)?;
     }
+    let expected = summary.warnings - report.unexpected_warnings();
     writeln!(
         log,
-        "  {} warning{} in report.json{}",
+        "  {} warning{} in report.json{}{}",
         summary.warnings,
         if summary.warnings == 1 { "" } else { "s" },
+        if expected > 0 {
+            format!(", {expected} of them expected by the show")
+        } else {
+            String::new()
+        },
         if summary.warnings > 0 {
             " (run `glowscore check` to read them)"
         } else {
