@@ -8,6 +8,7 @@ mod check_physics;
 mod common;
 mod compile;
 mod conventions_doc;
+mod demo_golden;
 mod deterministic_maths;
 mod errors;
 mod event_properties;
