@@ -4,6 +4,10 @@
  *   test_decode dump FILE OUT    write every frame, in order and wire order, to OUT ("-": stdout)
  *   test_decode frame FILE K     print frame K as hex
  *   test_decode crc FILE         print the CRC-32 of the whole file (no validation)
+ *   test_decode marks FILE       print the resync marks (frame and bar, one a line)
+ *
+ * FILE may be a full table, a compact table or a program form (magic "GSPR",
+ * played by glowscore_program.c): info, dump, frame and marks work on each.
  *
  * Built with -DEMBED_HEADER='"name.h"' -DEMBED_NAME=name_table -DEMBED_MACRO=NAME_TABLE
  * it also offers
@@ -16,6 +20,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "glowscore_program.h"
 #include "glowscore_table.h"
 
 #ifdef EMBED_HEADER
@@ -27,7 +32,7 @@
 
 static int usage(void)
 {
-    fprintf(stderr, "usage: test_decode info|dump|frame|crc FILE [OUT|K]\n");
+    fprintf(stderr, "usage: test_decode info|dump|frame|crc|marks FILE [OUT|K]\n");
     return 2;
 }
 
@@ -117,6 +122,78 @@ static void print_info(const glowtab *t)
            (unsigned long)t->segment_count, (unsigned long)t->crc32);
 }
 
+static int refuse_program(glowprog_status s)
+{
+    fprintf(stderr, "error: %s\n", glowprog_status_text(s));
+    return 1;
+}
+
+/* info, dump, frame and marks of a program form. */
+static int program(int argc, char **argv, const uint8_t *buf, size_t len)
+{
+    glowprog p;
+    glowprog_status s = glowprog_open(&p, buf, len);
+    uint8_t *frame;
+    int rc = 0;
+    if (s != GLOWPROG_OK) {
+        return refuse_program(s);
+    }
+    frame = (uint8_t *)malloc(p.frame_size ? p.frame_size : 1);
+    if (frame == NULL) {
+        return 2;
+    }
+    if (strcmp(argv[1], "info") == 0 && argc == 3) {
+        printf("form=program frame_rate_hz=%lu leds=%lu frames=%lu bytes_per_led=%u order=%s "
+               "frame_size=%lu marks=%lu crc32=%08lx\n",
+               (unsigned long)p.frame_rate_hz, (unsigned long)p.led_count,
+               (unsigned long)p.frame_count, (unsigned)p.bytes_per_led, p.order,
+               (unsigned long)p.frame_size, (unsigned long)p.marks.count,
+               (unsigned long)p.crc32);
+    } else if (strcmp(argv[1], "marks") == 0 && argc == 3) {
+        uint32_t i, f, bar;
+        for (i = 0; glowprog_mark(&p, i, &f, &bar); i++) {
+            printf("%lu %lu\n", (unsigned long)f, (unsigned long)bar);
+        }
+    } else if (strcmp(argv[1], "dump") == 0 && argc == 4) {
+        FILE *out = strcmp(argv[3], "-") == 0 ? stdout : fopen(argv[3], "wb");
+        uint32_t k;
+        if (out == NULL) {
+            free(frame);
+            return 2;
+        }
+        for (k = 0; k < p.frame_count && rc == 0; k++) {
+            if ((s = glowprog_frame(&p, k, frame, p.frame_size)) != GLOWPROG_OK) {
+                rc = refuse_program(s);
+            } else if (fwrite(frame, 1, p.frame_size, out) != p.frame_size) {
+                rc = 2;
+            }
+        }
+        if (out != stdout) {
+            fclose(out);
+        } else {
+            fflush(out);
+        }
+    } else if (strcmp(argv[1], "frame") == 0 && argc == 4) {
+        char *end = NULL;
+        unsigned long k = strtoul(argv[3], &end, 10);
+        if (end == argv[3] || *end != '\0' || k > 0xFFFFFFFFul) {
+            rc = usage();
+        } else if ((s = glowprog_frame(&p, (uint32_t)k, frame, p.frame_size)) != GLOWPROG_OK) {
+            rc = refuse_program(s);
+        } else {
+            uint32_t c;
+            for (c = 0; c < p.frame_size; c++) {
+                printf("%02x", frame[c]);
+            }
+            printf("\n");
+        }
+    } else {
+        rc = usage();
+    }
+    free(frame);
+    return rc;
+}
+
 #ifdef EMBED_HEADER
 static int embedded(const char *out_path)
 {
@@ -161,6 +238,11 @@ int main(int argc, char **argv)
         printf("%08lx\n", (unsigned long)glowtab_crc32(0, buf, len));
         free(buf);
         return 0;
+    }
+    if (len >= 4 && memcmp(buf, "GSPR", 4) == 0) {
+        rc = program(argc, argv, buf, len);
+        free(buf);
+        return rc;
     }
     s = glowtab_open(&t, buf, len);
     if (s != GLOWTAB_OK) {

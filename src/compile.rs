@@ -299,20 +299,33 @@ fn write_tables(
     dir: &Path,
 ) -> Result<(Vec<(String, PropTables)>, FrameFigures), CompileError> {
     let (show, lights) = (prepared.show(), prepared.lights());
+    let spec = |p: &crate::model::Prop| TableSpec {
+        frame_rate_hz: show.frame_rate_hz,
+        leds: p.leds,
+        order: p.wire_order,
+        frame_count: frames,
+    };
+    let programs: Vec<Vec<u8>> = show
+        .props
+        .iter()
+        .enumerate()
+        .map(|(i, p)| {
+            crate::output::program::encode(prepared, i, &spec(p)).map_err(|source| FileError {
+                file: format!("{}.prog.bin", p.name),
+                source,
+            })
+        })
+        .collect::<Result<_, _>>()?;
     let mut writers: Vec<PropFiles> = show
         .props
         .iter()
         .enumerate()
         .map(|(i, p)| {
             let opening = Opening {
-                spec: TableSpec {
-                    frame_rate_hz: show.frame_rate_hz,
-                    leds: p.leds,
-                    order: p.wire_order,
-                    frame_count: frames,
-                },
+                spec: spec(p),
                 prop: &p.name,
                 header_form,
+                program: &programs[i],
             };
             PropFiles::open(dir, i, &opening)
         })
@@ -388,6 +401,7 @@ mod tests {
                     },
                     prop: &p.name,
                     header_form: TableForm::Full,
+                    program: &[],
                 };
                 PropFiles::open(&dir, i, &opening).unwrap()
             })

@@ -52,6 +52,14 @@ pub struct Change {
     before: usize,
 }
 
+impl Change {
+    /// What was shown just before the change (the start of its crossfade),
+    /// Oklab, at the grip end and the far end of each strip.
+    pub fn from_colours(&self) -> [Oklab<f64>; 2] {
+        self.from
+    }
+}
+
 /// The stepped colours of a cue, ready to put on frames.
 #[derive(Clone, Debug)]
 struct Palette {

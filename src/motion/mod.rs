@@ -61,6 +61,18 @@ impl Span {
         (s - self.delay_beats) * self.phase_per_beat
     }
 
+    /// The delay of the placement, beats: phase 0 falls this many beats
+    /// into the section.
+    pub fn delay_beats(&self) -> f64 {
+        self.delay_beats
+    }
+
+    /// The tether (or rod) term: the prop's direction from the grip turns
+    /// with it (its radius is the tether or rod length).
+    pub fn tether(&self) -> Rotor {
+        self.tether
+    }
+
     /// d(phase)/d(beat), revolutions per beat (negative when reversed).
     pub fn phase_per_beat(&self) -> f64 {
         self.phase_per_beat

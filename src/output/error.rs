@@ -8,6 +8,9 @@ pub enum OutputError {
     /// The output could not be written to.
     #[error("cannot write the table: {0}")]
     Io(#[from] std::io::Error),
+    /// The prop's show cannot be stored in the program form.
+    #[error(transparent)]
+    Program(#[from] super::program::ProgramError),
     /// The table description cannot be stored (zero frame rate, no LEDs, too large).
     #[error("invalid table description: {0}")]
     BadSpec(String),

@@ -19,6 +19,7 @@ use rayon::prelude::*;
 use serde::Serialize;
 use serde::ser::SerializeMap;
 
+use super::program::ProgramFile;
 use super::{
     CHeaderText, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, OutputError,
     TableForm, TableSpec, WriteStats,
@@ -33,6 +34,9 @@ pub struct Opening<'a> {
     pub prop: &'a str,
     /// Which binary form the C header embeds.
     pub header_form: TableForm,
+    /// The prop's program form, made from the prepared show before the
+    /// frames (`output::program::encode`); its writer only stores it.
+    pub program: &'a [u8],
 }
 
 /// One file of a prop being written: frames in, its figures out.
@@ -66,7 +70,7 @@ pub struct Format {
 pub type OpenFn = fn(out: Output, opening: &Opening) -> Result<Box<dyn PropFile>, OutputError>;
 
 /// Every file compile writes per prop, in the order of `report.json`.
-pub const FORMATS: [Format; 4] = [
+pub const FORMATS: [Format; 5] = [
     Format {
         key: "csv",
         suffix: ".csv",
@@ -89,6 +93,13 @@ pub const FORMATS: [Format; 4] = [
         open: Some(|out, o| Ok(Box::new(CompactTableWriter::new(out, o.spec)?))),
     },
     Format {
+        key: "program",
+        suffix: ".prog.bin",
+        reports_crc: true,
+        form: None,
+        open: Some(|out, o| Ok(Box::new(ProgramFile::new(out, o.program.to_vec())))),
+    },
+    Format {
         key: "header",
         suffix: ".h",
         reports_crc: false,
@@ -108,7 +119,7 @@ pub struct Output {
 
 impl Output {
     /// Finishes the file, and the header's text if it went there: its size.
-    fn finish(self) -> std::io::Result<Option<u64>> {
+    pub(crate) fn finish(self) -> std::io::Result<Option<u64>> {
         self.file.finish()?;
         match self.header.map(Background::finish).transpose()? {
             Some(text) => Ok(Some(text.finish().map_err(std::io::Error::other)?.1)),

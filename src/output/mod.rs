@@ -17,6 +17,7 @@ mod csv;
 mod error;
 pub mod files;
 mod full;
+pub mod program;
 mod reader;
 mod spec;
 

@@ -227,6 +227,12 @@ pub struct ToPixel {
 }
 
 impl ToPixel {
+    /// The six coefficients `[a, b, c, d, e, f]` of
+    /// `x = a q_r + b q_u + c`, `y = d q_r + e q_u + f`.
+    pub fn coefficients(&self) -> [f64; 6] {
+        self.m
+    }
+
     /// Pixel coordinates of plane point `q` = `[right, up]`, metres.
     pub fn apply(&self, q: [f64; 2]) -> [f64; 2] {
         let m = &self.m;

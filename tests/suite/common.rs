@@ -31,6 +31,7 @@ pub fn build_decoder(out: &Path, extra: &[&str]) {
         .arg(out)
         .arg(fw.join("test_decode.c"))
         .arg(fw.join("glowscore_table.c"))
+        .arg(fw.join("glowscore_program.c"))
         .status()
         .expect("run the system C compiler `cc`");
     assert!(status.success(), "cc failed for {}", out.display());
