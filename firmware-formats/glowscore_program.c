@@ -232,8 +232,8 @@ static void sincos48(uint64_t turn, float *s, float *c)
 #define LED_ENTRY 8u
 #define SPAN_ENTRY 48u
 #define ROTOR_ENTRY 16u
-#define COLOUR_ENTRY 18u
-#define TRACK_ENTRY 88u
+#define COLOUR_ENTRY 15u
+#define TRACK_ENTRY 68u
 #define PLAY_ENTRY 8u
 #define BLOCK_ENTRY 12u
 #define PICTURE_ENTRY 28u
@@ -283,7 +283,7 @@ static int varint(const uint8_t *p, uint32_t end, uint32_t *pos, uint64_t *v)
 typedef struct {
     uint32_t frame;    /* first frame that shows it */
     uint32_t number;   /* its place in the track's changes, from 0 */
-    uint16_t lead;     /* how far before its frame's midpoint the event is, 2^-16 frames */
+    uint16_t lead;     /* how far before its frame's midpoint the event is, 2^-12 frames */
     const uint8_t *from; /* explicit start colours (6 floats), or NULL */
 } change;
 
@@ -303,21 +303,18 @@ static int scan_block(const glowprog *p, uint32_t b, uint32_t in_block, int fade
         if (!varint(p->stream, p->stream_len, &pos, &v)) {
             return 0;
         }
+        c.lead = 0;
+        if (fades) {
+            c.lead = (uint16_t)((v >> 1) & 0xFFFu);
+            v = ((v >> 13) << 1) | (v & 1u);
+        }
         if ((v >> 1) > 0xFFFFFFFFull - frame) {
             return 0;
         }
         frame += (uint32_t)(v >> 1);
         c.frame = frame;
         c.number = first + j;
-        c.lead = 0;
         c.from = NULL;
-        if (fades) {
-            if (pos + 2 > p->stream_len) {
-                return 0;
-            }
-            c.lead = rd16(p->stream + pos);
-            pos += 2;
-        }
         if (v & 1) {
             if (pos + 24 > p->stream_len) {
                 return 0;
@@ -424,8 +421,8 @@ static glowprog_status check_sections(glowprog *p)
             uint32_t b0 = rd32(t + 24), nb = (changes + CHANGES_PER_BLOCK - 1) / CHANGES_PER_BLOCK;
             uint32_t b;
             if (n == 0 || n > 0xFFFF || (uint64_t)first + n > p->colours.count || changes == 0 ||
-                (uint64_t)b0 + nb > p->blocks.count || rdi64(t + 32) < 0 ||
-                (kind == 2 && rdi64(t + 56) <= 0)) {
+                (uint64_t)b0 + nb > p->blocks.count || rdi64(t + 28) < 0 ||
+                (kind == 2 && rdi64(t + 52) <= 0)) {
                 return GLOWPROG_ERR_SECTION;
             }
             for (b = 0; b < nb; b++) {
@@ -433,7 +430,7 @@ static glowprog_status check_sections(glowprog *p)
                 uint32_t in_block = b + 1 < nb ? CHANGES_PER_BLOCK : changes - b * CHANGES_PER_BLOCK;
                 const uint8_t *e = entry(&p->blocks, BLOCK_ENTRY, b0 + b);
                 if (rd32(e + 8) != b * CHANGES_PER_BLOCK ||
-                    !scan_block(p, b0 + b, in_block, rdi64(t + 32) > 0, DARK, &c)) {
+                    !scan_block(p, b0 + b, in_block, rdi64(t + 28) > 0, DARK, &c)) {
                     return GLOWPROG_ERR_SECTION;
                 }
             }
@@ -601,9 +598,9 @@ static lab colour_lab(const glowprog *p, uint32_t i)
 {
     const uint8_t *e = entry(&p->colours, COLOUR_ENTRY, i);
     lab c;
-    c.l = rdf32(e + 6);
-    c.a = rdf32(e + 10);
-    c.b = rdf32(e + 14);
+    c.l = rdf32(e + 3);
+    c.a = rdf32(e + 7);
+    c.b = rdf32(e + 11);
     return c;
 }
 
@@ -676,9 +673,9 @@ static void lab_bytes(lab c, float brightness, uint8_t rgb[3])
 static void settled(const glowprog *p, uint32_t i, uint8_t rgb[3])
 {
     const uint8_t *e = entry(&p->colours, COLOUR_ENTRY, i);
-    rgb[0] = e[3];
-    rgb[1] = e[4];
-    rgb[2] = e[5];
+    rgb[0] = e[0];
+    rgb[1] = e[1];
+    rgb[2] = e[2];
 }
 
 /* Writes LED i's bytes in wire order. */
@@ -838,7 +835,7 @@ static void paint(const glowprog *p, const uint8_t *t, uint32_t k, int64_t beat,
         sincos48(turn48(rdi64(r + 4), x, rd32(r + 12)), &dir[1], &dir[0]);
     }
     for (i = 0; i < 6; i++) {
-        m[i] = rdf32(t + 64 + 4 * i);
+        m[i] = rdf32(t + 44 + 4 * i);
     }
     if (t[9] == 1) {
         /* Fixed to the hand: turned about the anchor by the hand's phase
@@ -885,7 +882,7 @@ static void steps(const glowprog *p, const uint8_t *t, uint32_t k, int64_t beat,
     uint8_t kind = t[8];
     uint32_t first = rd32(t + 12), n = rd32(t + 16), changes = rd32(t + 20), b0 = rd32(t + 24);
     uint32_t nb = (changes + CHANGES_PER_BLOCK - 1) / CHANGES_PER_BLOCK, lo = 0, hi = nb;
-    int64_t fade = rdi64(t + 32);
+    int64_t fade = rdi64(t + 28);
     uint32_t col, before, i;
     change c;
     int64_t diff;
@@ -911,7 +908,7 @@ static void steps(const glowprog *p, const uint8_t *t, uint32_t k, int64_t beat,
     col = c.number % n;
     before = c.number == 0 ? 0 : (c.number - 1) % n;
     /* The instant of the change's event: its frame's midpoint less the stored part of a frame. */
-    diff = beat - glowprog_beat_of_frame(p, c.frame) + (int64_t)(((step_at(p, c.frame) >> 24) * c.lead) >> 16);
+    diff = beat - glowprog_beat_of_frame(p, c.frame) + (int64_t)(((step_at(p, c.frame) >> 24) * c.lead) >> 12);
     fading = fade > 0 && diff < fade;
     frac = fade > 0 ? (float)diff / (float)fade : 1.0f;
     to[0] = colour_lab(p, first + col);
@@ -961,8 +958,8 @@ static void steps(const glowprog *p, const uint8_t *t, uint32_t k, int64_t beat,
     }
     /* A chase: band floor((index - speed (beat - start)) / width), round the colours. */
     {
-        int64_t run = mul_q32(rdi64(t + 48), beat - rdi64(t + 40));
-        int64_t width = rdi64(t + 56);
+        int64_t run = mul_q32(rdi64(t + 44), beat - rdi64(t + 36));
+        int64_t width = rdi64(t + 52);
         for (i = 0; i < p->led_count; i++) {
             const uint8_t *e = entry(&p->leds, LED_ENTRY, i);
             int64_t xq = (int64_t)rd16(e + 4) * 4294967296LL - run;

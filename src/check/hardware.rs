@@ -42,12 +42,19 @@ pub struct HardwareFigures {
     pub full_table_bytes: u64,
     /// Size of the compact binary table, bytes.
     pub compact_table_bytes: u64,
+    /// Size of the program form, bytes (0 where it could not be encoded).
+    pub program_bytes: u64,
     /// Memory declared for tables, bytes (`table_memory_kb` x 1024).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub table_memory_bytes: Option<u64>,
-    /// The smallest form that fits that memory: "compact", "full" or none.
+    /// The smallest form that fits that memory: "program", "compact",
+    /// "full" or none.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub fits: Option<&'static str>,
+    /// Every form that fits that memory, smallest first (empty when no
+    /// memory is declared).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub forms_that_fit: Vec<&'static str>,
     /// Worst clock drift over the show, milliseconds.
     #[serde(serialize_with = "r9")]
     pub drift_ms: f64,
@@ -64,8 +71,16 @@ impl HardwareFigures {
     /// How the tables meet the declared memory, as a phrase ("" when none is declared).
     pub fn memory_phrase(&self) -> String {
         match (self.table_memory_bytes, self.fits) {
-            (Some(m), Some(form)) => format!("the {form} table fits the {m} B declared"),
-            (Some(m), None) => format!("neither table fits the {m} B declared"),
+            (Some(m), Some(_)) => format!(
+                "{} fit{} the {m} B declared",
+                self.forms_that_fit.join(", "),
+                if self.forms_that_fit.len() == 1 {
+                    "s"
+                } else {
+                    ""
+                }
+            ),
+            (Some(m), None) => format!("no form fits the {m} B declared"),
             _ => String::new(),
         }
     }
@@ -120,6 +135,26 @@ pub fn compact_counter(show: &Show, prop: usize) -> Option<CompactTableWriter<Co
     CompactTableWriter::new(Count, spec).ok()
 }
 
+/// The size of every prop's program form, bytes, in prop order (`None`
+/// where it cannot be encoded).
+pub fn program_bytes(prepared: &crate::prepared::Prepared) -> Vec<Option<u64>> {
+    let show = prepared.show();
+    (0..show.props.len())
+        .map(|i| {
+            let p = &show.props[i];
+            let spec = TableSpec {
+                frame_rate_hz: show.frame_rate_hz,
+                leds: p.leds,
+                order: p.wire_order,
+                frame_count: show.frame_count().min(u64::from(u32::MAX)) as u32,
+            };
+            crate::output::program::encode(prepared, i, &spec)
+                .ok()
+                .map(|b| b.len() as u64)
+        })
+        .collect()
+}
+
 /// The hardware figures and warnings of every prop, in prop order.
 /// `compact_bytes[i]` is the size of prop `i`'s compact table (as written,
 /// or counted by [`compact_counter`]), `None` where it could not be encoded.
@@ -127,6 +162,7 @@ pub fn scan(
     show: &Show,
     lights: &Lights,
     compact_bytes: &[Option<u64>],
+    program_bytes: &[Option<u64>],
     tolerance_mm: f64,
 ) -> (Vec<HardwareFigures>, Vec<Warning>) {
     let frames = show.frame_count().min(u64::from(u32::MAX)) as u32;
@@ -159,15 +195,19 @@ pub fn scan(
         let full = full_table_bytes(&spec);
         let compact = compact_bytes.get(i).copied().flatten().unwrap_or(full);
         let memory = prop.table_memory_kb.map(|kb| (kb * 1024.0).floor() as u64);
-        let fits = memory.and_then(|m| {
-            if compact <= m && compact <= full {
-                Some("compact")
-            } else if full <= m {
-                Some("full")
-            } else {
-                None
-            }
-        });
+        let program = program_bytes.get(i).copied().flatten();
+        // Smallest first (the program form when it could be encoded).
+        let mut forms: Vec<(&'static str, u64)> = program
+            .map(|b| ("program", b))
+            .into_iter()
+            .chain([("compact", compact), ("full", full)])
+            .collect();
+        forms.sort_by_key(|f| f.1);
+        let forms_that_fit: Vec<&'static str> = match memory {
+            Some(m) => forms.iter().filter(|f| f.1 <= m).map(|f| f.0).collect(),
+            None => Vec::new(),
+        };
+        let fits = forms_that_fit.first().copied();
         let drift = drift_s(prop.clock_ppm, length_s);
         let landing_at_max = (v_max > 0.0).then(|| v_max * 0.5 / max_rate * 1000.0);
         let warn = |kind, message: String, value: f64, limit: f64, unit| Warning {
@@ -201,13 +241,14 @@ pub fn scan(
             ));
         }
         if let (Some(m), None) = (memory, fits) {
-            let smallest = compact.min(full).max(1);
+            let smallest = forms[0].1.max(1);
             let seconds = length_s * m as f64 / smallest as f64;
             warnings.push(warn(
                 WarningKind::Memory,
                 format!(
-                    "neither table fits the {m} bytes of table memory (compact {compact} B, full {full} B); \
-                     about {seconds:.1} s of the show would"
+                    "no form fits the {m} bytes of table memory (program {} B, compact {compact} B, full {full} B); \
+                     about {seconds:.1} s of the show would",
+                    program.map_or_else(|| "-".to_string(), |b| b.to_string())
                 ),
                 smallest as f64,
                 m as f64,
@@ -247,8 +288,10 @@ pub fn scan(
             max_frame_rate_hz: max_rate,
             full_table_bytes: full,
             compact_table_bytes: compact,
+            program_bytes: program.unwrap_or(0),
             table_memory_bytes: memory,
             fits,
+            forms_that_fit,
             drift_ms: drift * 1000.0,
             drift_beats,
             landing_mm_at_max_rate: landing_at_max,

@@ -337,10 +337,12 @@ pub(crate) fn report_of(
         }
     }
     warnings.extend(light_scan.warnings);
+    let program_bytes = hardware::program_bytes(prepared);
     let (hardware, hardware_warnings) = hardware::scan(
         show,
         lights,
         &frames.compact_table_bytes,
+        &program_bytes,
         settings.tolerance_mm,
     );
     for (prop, h) in show.props.iter().zip(hardware) {

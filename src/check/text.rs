@@ -197,8 +197,8 @@ fn write_prop(out: &mut dyn Write, p: &PropFigures) -> io::Result<()> {
         let sep = if memory.is_empty() { "" } else { "; " };
         writeln!(
             out,
-            "  tables         full {} B, compact {} B{sep}{memory}",
-            h.full_table_bytes, h.compact_table_bytes
+            "  tables         full {} B, compact {} B, program {} B{sep}{memory}",
+            h.full_table_bytes, h.compact_table_bytes, h.program_bytes
         )?;
         writeln!(
             out,

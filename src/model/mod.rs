@@ -37,6 +37,9 @@ pub struct Show {
     pub cues: Vec<Cue>,
     /// Warnings the show's author expects (`[[expected]]`), in file order.
     pub expected: Vec<Expected>,
+    /// Bars whose first frame the binary forms mark, so that a player can
+    /// re-align to an outside cue there (`resync_bars`), increasing.
+    pub resync_bars: Vec<u32>,
     /// The show file, for diagnostics that point into it.
     pub source: Arc<Source>,
     /// The reader's warnings (old key values still read, and the like):

@@ -430,10 +430,10 @@ fn cue_sections(
                 });
                 rec.u16(0);
                 rec.u32(count_u32(index, "pictures")?);
-                for _ in 0..4 {
+                for _ in 0..3 {
                     rec.u32(0);
                 }
-                for _ in 0..4 {
+                for _ in 0..2 {
                     rec.i64(0);
                 }
                 for m in p.placement.to_pixel(&p.picture, 0.0).coefficients() {
@@ -468,12 +468,11 @@ fn cue_sections(
                 rec.u32(count_u32(n, "colours")?);
                 rec.u32(count_u32(t.changes.len(), "colour changes")?);
                 rec.u32(count_u32(n_blocks, "change blocks")?);
-                rec.u32(0);
                 rec.i64(beat_q(st.fade_beats, "a crossfade")?);
                 rec.i64(beat_q(start, "a cue's start")?);
                 rec.i64(beat_q(lpb, "a chase's speed")?);
                 rec.i64(beat_q(width, "a chase's band")?);
-                for _ in 0..6 {
+                for _ in 0..2 {
                     rec.f32(0.0);
                 }
                 for (&c, &l) in st.colours.iter().zip(&labs) {
@@ -481,7 +480,6 @@ fn cue_sections(
                         colour::to_linear(Srgb::new(c[0], c[1], c[2])),
                         brightness,
                     );
-                    colours.0.extend_from_slice(&c);
                     colours.0.extend_from_slice(&bytes);
                     lab(&mut colours, l);
                 }
@@ -502,14 +500,15 @@ fn cue_sections(
                         let before = if i == 0 { 0 } else { (i - 1) % n };
                         let from = c.from_colours();
                         let explicit = from != target(before);
-                        stream.varint(((c.frame - prev) << 1) | u64::from(explicit));
-                        prev = c.frame;
+                        let mut v = c.frame - prev;
                         if fades {
                             // How far the event lies before its frame's
-                            // midpoint, in frames (the tempo at the frame).
+                            // midpoint, in 2^-12 frames (the tempo at the frame).
                             let d = (mid_beat(show, c.frame) - c.beat) / step_at(steps, c.frame);
-                            stream.u16((d * 65536.0).round().clamp(0.0, 65535.0) as u16);
+                            v = (v << 12) | (d * 4096.0).round().clamp(0.0, 4095.0) as u64;
                         }
+                        stream.varint((v << 1) | u64::from(explicit));
+                        prev = c.frame;
                         if explicit {
                             lab(&mut stream, from[0]);
                             lab(&mut stream, from[1]);
@@ -564,7 +563,22 @@ pub fn encode(prepared: &Prepared, prop: usize, spec: &TableSpec) -> Result<Vec<
     info.f32(lights.brightness);
     info.u32(show.tempo.beats_per_bar());
     info.f32(show.props[prop].tether_m);
-    let sections: [(&[u8; 4], Bytes); 10] = [
+    let mut marks = Bytes::default();
+    let marked: Vec<(u64, u32)> = show
+        .resync_bars
+        .iter()
+        .map(|&bar| {
+            let t = show.tempo.time_at_bar(bar);
+            (crate::cues::frame_of(t, show.frame_rate_hz), bar)
+        })
+        .filter(|&(k, _)| k < frames)
+        .collect();
+    marks.u32(count_u32(marked.len(), "resync marks")?);
+    for (k, bar) in marked {
+        marks.u32(frame_u32(k));
+        marks.u32(bar);
+    }
+    let mut sections: Vec<(&[u8; 4], Bytes)> = vec![
         (b"PROP", info),
         (b"TEMP", tempo),
         (b"LEDS", leds),
@@ -576,6 +590,9 @@ pub fn encode(prepared: &Prepared, prop: usize, spec: &TableSpec) -> Result<Vec<
         (b"CHNG", cues.changes),
         (b"PICT", cues.pictures),
     ];
+    if !show.resync_bars.is_empty() {
+        sections.push((b"MARK", marks));
+    }
     let mut out = Bytes::default();
     out.0.extend_from_slice(&MAGIC_PROGRAM);
     out.u16(PROGRAM_VERSION);

@@ -241,6 +241,7 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
     let cues = cues::cues(ctx, root, &props, &names, last_bar);
     let expected = expected::expected(ctx, root, &props);
 
+    let resync_bars = resync_bars(ctx, header, last_bar.unwrap_or(1));
     let tempo = TempoMap::new(start_s, beats_per_bar, bpm?, &changes);
     let show = Show {
         title,
@@ -251,11 +252,43 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
         sections,
         cues,
         expected,
+        resync_bars,
         source: ctx.src.clone(),
         notes: Vec::new(),
     };
     check_work(ctx, root, &show);
     Some(show)
+}
+
+/// `resync_bars`: whole bar numbers from 1 to the show's last bar, each
+/// once, sorted on the way.
+fn resync_bars(ctx: &mut Ctx, header: Tbl<'_, '_>, last_bar: u32) -> Vec<u32> {
+    let Some((a, span)) = ctx.array(header, "resync_bars", false) else {
+        return Vec::new();
+    };
+    let path = header.key_path("resync_bars");
+    let mut bars = Vec::new();
+    for v in a.iter() {
+        let n = match v.get_ref() {
+            DeValue::Integer(i) => i64::from_str_radix(i.as_str(), i.radix()).ok(),
+            _ => None,
+        };
+        match n {
+            Some(b) if (1..=i64::from(last_bar)).contains(&b) => bars.push(b as u32),
+            _ => {
+                ctx.error_help(
+                    &path,
+                    span.clone(),
+                    format!("each resync bar must be a whole bar number from 1 to {last_bar}"),
+                    "write e.g. `resync_bars = [1, 9, 17]`",
+                );
+                return Vec::new();
+            }
+        }
+    }
+    bars.sort_unstable();
+    bars.dedup();
+    bars
 }
 
 /// The most turns of the fastest relative rotation, over all props and

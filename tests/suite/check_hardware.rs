@@ -116,6 +116,7 @@ fn reported_table_sizes_are_the_sizes_of_the_files_written() {
     for (key, file) in [
         ("full_table_bytes", "p.full.bin"),
         ("compact_table_bytes", "p.compact.bin"),
+        ("program_bytes", "p.prog.bin"),
     ] {
         let size = std::fs::metadata(dir.join("out").join(file)).unwrap().len();
         assert_eq!(hw[key].as_u64(), Some(size), "{key}");

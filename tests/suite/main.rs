@@ -23,6 +23,7 @@ mod pipeline;
 mod preview_output;
 mod preview_paint;
 mod preview_physics;
+mod program;
 mod staff_kinematics;
 mod strips;
 mod trade_facts;
