@@ -51,10 +51,12 @@ fn memory_warns_when_no_table_fits_and_names_the_form_that_does() {
     let tight = report(&show("table_memory_kb = 0.5", 100, 2));
     assert!(kinds(&tight).contains(&"memory"));
     let roomy = report(&show("table_memory_kb = 64", 100, 2));
-    assert_eq!(
-        roomy.props[0].hardware.as_ref().unwrap().fits,
-        Some("compact")
-    );
+    let h = roomy.props[0].hardware.as_ref().unwrap();
+    // The program form is the smallest; the full table (100 LEDs, 400
+    // frames: 120 kB) does not fit.
+    assert_eq!(h.fits, Some("program"));
+    assert_eq!(h.forms_that_fit, vec!["program", "compact"]);
+    assert!(h.program_bytes < h.compact_table_bytes);
     assert!(!kinds(&roomy).contains(&"memory"));
 }
 
