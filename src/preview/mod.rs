@@ -23,6 +23,7 @@
 //! sum; a second for a pinhole's nearest depth), one that counts the points
 //! against [`trail::MAX_PIECES`], and the one that draws them chunk by chunk.
 
+pub mod blur;
 pub mod camera;
 pub mod overlay;
 pub mod png;
@@ -522,7 +523,12 @@ impl Setup {
         let cam = &self.cam;
         let (w, h) = (cam.width, cam.height);
         let mut done: u64 = 0;
-        trail::for_each_chunk(
+        // Orthographic views deposit each point and blur once per glow
+        // width (module `blur`); a pinhole's glows change with depth, so
+        // each point gets its own kernel.
+        let mut deposits = cam.viewport().map(|_| blur::Deposits::new(w, h));
+        let mut groups: Vec<Option<usize>> = vec![None; self.glows.len()];
+        let made = trail::for_each_chunk(
             show,
             motions,
             lights,
@@ -532,6 +538,46 @@ impl Setup {
             KERNEL_CHUNK,
             limit,
             &mut |chunk| {
+                let n = chunk.len() as u64;
+                if let Some(dep) = deposits.as_mut() {
+                    let seen: Vec<Option<(usize, camera::Projected)>> = chunk
+                        .par_iter()
+                        .map(|p| cam.project(&p.pos).map(|q| (p.prop, q)))
+                        .collect();
+                    let mut rest = Vec::new();
+                    for ((prop, q), piece) in seen
+                        .into_iter()
+                        .zip(chunk)
+                        .filter_map(|(s, p)| s.map(|s| (s, p)))
+                    {
+                        let g = self.glows[prop];
+                        let e = piece.energy.map(|v| (v * q.gain) as f32);
+                        let group = match groups[prop] {
+                            Some(i) => Some(i),
+                            None => {
+                                let i = dep.group(g * q.scale_x, g * q.scale_y);
+                                groups[prop] = i;
+                                i
+                            }
+                        };
+                        match group {
+                            Some(i) => dep.deposit(i, q.px, q.py, e),
+                            None => rest.extend(splat::kernel(
+                                q.px,
+                                q.py,
+                                g * q.scale_x,
+                                g * q.scale_y,
+                                e,
+                                w,
+                                h,
+                            )),
+                        }
+                    }
+                    splat::accumulate_into(film, &rest, &|_, _| {});
+                    done += n;
+                    progress(done);
+                    return Ok(());
+                }
                 let kernels: Vec<splat::Kernel> = chunk
                     .par_iter()
                     .filter_map(|p| {
@@ -541,14 +587,17 @@ impl Setup {
                         splat::kernel(q.px, q.py, g * q.scale_x, g * q.scale_y, e, w, h)
                     })
                     .collect();
-                let n = chunk.len() as u64;
                 splat::accumulate_into(film, &kernels, &|d, bands| {
                     progress(done + n * d / bands.max(1))
                 });
                 done += n;
                 Ok(())
             },
-        )
+        )?;
+        if let Some(dep) = deposits {
+            dep.develop_into(film);
+        }
+        Ok(made)
     }
 }
 
