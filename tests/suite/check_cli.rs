@@ -4,7 +4,7 @@
 
 use crate::common::cli;
 use std::path::PathBuf;
-use std::process::{Command, Output};
+use std::process::Output;
 
 fn write(name: &str, text: &str) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("glowscore-check-{}", std::process::id()));

@@ -5,7 +5,6 @@
 
 use crate::common::cli;
 use std::path::{Path, PathBuf};
-use std::process::Command;
 
 fn folder(name: &str) -> PathBuf {
     let dir =

@@ -12,7 +12,6 @@ use crate::common;
 use crate::common::cli;
 
 use std::path::{Path, PathBuf};
-use std::process::Command;
 
 use glowscore::geom::Vec3;
 use glowscore::prepared::Prepared;
