@@ -1,8 +1,8 @@
 //! `glowscore rehearse SHOW --out practice.wav [--prop P] [--song SONG]`: a
 //! practice track: the song (`--song`, else the show's `music`, if any)
-//! mixed with a click on every beat of
-//! the show's tempo map (higher and louder on each downbeat) and a short
-//! tone at every colour change of one prop.
+//! mixed with a click on every beat of the show's tempo map (higher and
+//! louder on each downbeat) and a short tone at every colour change of one
+//! prop.
 //!
 //! Levels (peak, full scale 1.0): song x 0.5, click 0.25 (downbeat 0.35),
 //! cue tone 0.15. Their sum is at most 1.0, so the track never clips.

@@ -59,8 +59,6 @@ pub struct Music {
     /// Where the `music` key is written in the show file, bytes (to locate
     /// warnings).
     pub offset: usize,
-    /// Length from the file's header, seconds, when the header gives it.
-    pub header_duration_s: Option<f64>,
 }
 
 /// What kind of prop it is.

@@ -285,11 +285,10 @@ fn music(ctx: &mut Ctx, header: Tbl<'_, '_>) -> Option<Option<Music>> {
         return None;
     }
     match crate::music::probe_file(&path) {
-        Ok(h) => Some(Some(Music {
+        Ok(_) => Some(Some(Music {
             file,
             path,
             offset: span.start,
-            header_duration_s: h.duration_s,
         })),
         Err(e) => {
             // The message names the file as the show writes it.

@@ -408,3 +408,25 @@ fn a_song_without_a_steady_beat_is_a_warning_not_a_failure() {
     assert!(w[0].message.contains("no steady beat"), "{}", w[0].message);
     assert_eq!(r.music.as_ref().unwrap().max_offset_ms, None);
 }
+
+#[test]
+fn rehearse_plays_the_shows_own_song_without_song_given() {
+    // shows/tide-lamp-groove.toml names its song with `music`: without
+    // `--song` the practice track is the one made with `--song` naming that
+    // file, byte for byte, and it lasts the song (18.03 s, longer than the
+    // show's 16.5 s) plus half a second.
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let d = dir("rehearse");
+    let show = root.join("shows/tide-lamp-groove.toml");
+    let song_path = root.join("shows/tide-lamp-groove.wav");
+    let (own, given) = (d.join("own.wav"), d.join("given.wav"));
+    glowscore::commands::rehearse::run(&show, &own, Some("left"), None).expect("writes");
+    glowscore::commands::rehearse::run(&show, &given, Some("left"), Some(&song_path))
+        .expect("writes");
+    assert!(std::fs::read(&own).unwrap() == std::fs::read(&given).unwrap());
+    let track = decode_file(&own).unwrap();
+    let song = decode_file(&song_path).unwrap();
+    assert_eq!(track.rate, song.rate);
+    assert!(song.duration_s() > 18.0);
+    assert!((track.duration_s() - (song.duration_s() + 0.5)).abs() < 1e-3);
+}
