@@ -430,3 +430,30 @@ fn rehearse_plays_the_shows_own_song_without_song_given() {
     assert!(song.duration_s() > 18.0);
     assert!((track.duration_s() - (song.duration_s() + 0.5)).abs() < 1e-3);
 }
+
+#[test]
+fn a_song_that_is_truncated_after_its_header_fails_the_check_naming_it() {
+    // The header is whole (the reader accepts the key), the samples stop
+    // halfway: the check decodes the song and fails, exit status 1, with
+    // the file's name; with --json the report says why.
+    let d = dir("truncated");
+    song_file(&d, &spec(120.0, 4));
+    let bytes = std::fs::read(d.join("song.wav")).unwrap();
+    std::fs::write(d.join("song.wav"), &bytes[..bytes.len() / 2]).unwrap();
+    let path = d.join("show.toml");
+    std::fs::write(&path, show_text("song.wav", 120.0, 0.5, 2)).unwrap();
+    let out = Command::new(env!("CARGO_BIN_EXE_glowscore"))
+        .args(["check", path.to_str().unwrap(), "--json"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("song.wav") && err.contains("truncated"),
+        "{err}"
+    );
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["valid"], false);
+    let msg = v["errors"][0]["message"].as_str().unwrap();
+    assert!(msg.contains("truncated"), "{msg}");
+}
