@@ -79,6 +79,23 @@ pub struct CompileSummary {
     pub warnings: usize,
     /// Props dimmed by `brightness_limit`, with the scale applied.
     pub dimmed: Vec<(String, f64)>,
+    /// The song the tables belong to (a show with `music`).
+    pub music: Option<SongRecord>,
+}
+
+/// Which song a compile's tables belong to: `compile.music` in
+/// `report.json`. The song itself is not copied.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct SongRecord {
+    /// The song's file name (without its folder).
+    pub file: String,
+    /// Its size, bytes.
+    pub bytes: u64,
+    /// Length of its audio, seconds.
+    #[serde(serialize_with = "crate::check::report::r9")]
+    pub duration_s: f64,
+    /// CRC-32 (IEEE 802.3) of the file's bytes, eight lower-case hex digits.
+    pub crc32: String,
 }
 
 /// Why a compile failed.
@@ -194,14 +211,19 @@ fn write_all(
     // Within u32: `check_limits` has passed.
     let frames = show.frame_count() as u32;
     // The checks of the motion alone run while the tables are written.
-    let (written, motion) = rayon::join(
+    let (written, (motion, music)) = rayon::join(
         || write_tables(prepared, frames, opts.header_form, dir),
         // `compile` checked the budget before anything was written.
-        || crate::check::motion_figures(prepared, settings),
+        || {
+            rayon::join(
+                || crate::check::motion_figures(prepared, settings),
+                || crate::check::music::scan(prepared),
+            )
+        },
     );
     let (tables, figures) = written?;
     let motion = motion?;
-    let report = crate::check::report_of(prepared, motion, figures, settings);
+    let report = crate::check::report_of(prepared, motion, figures, music?, settings);
     let previews = if opts.previews {
         preview::write_previews(prepared, dir, &opts.preview)?
             .iter()
@@ -230,6 +252,13 @@ fn write_all(
                 Some((show.props[i].name.clone(), k))
             })
             .collect(),
+        // Heard already: the check's music scan succeeded.
+        music: prepared.song().and_then(Result::ok).map(|s| SongRecord {
+            file: s.file_name.clone(),
+            bytes: s.bytes,
+            duration_s: s.duration_s,
+            crc32: format!("{:08x}", s.crc32),
+        }),
     };
     write_report(&dir.join("report.json"), &summary, &report)?;
     Ok((summary, report))
@@ -256,6 +285,9 @@ struct CompileSection<'a> {
     /// Per dimmed prop, the scale `brightness_limit` applied.
     #[serde(serialize_with = "pairs_as_map")]
     brightness_scale_applied: &'a [(String, f64)],
+    /// The song the tables belong to (left out without `music`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    music: Option<&'a SongRecord>,
 }
 
 /// Serialises `(name, value)` pairs as a JSON object, in their order.
@@ -282,6 +314,7 @@ fn write_report(
             tables: &summary.tables,
             previews: &summary.previews,
             brightness_scale_applied: &summary.dimmed,
+            music: summary.music.as_ref(),
         },
     };
     let mut f = BufWriter::new(File::create(path).map_err(&io)?);

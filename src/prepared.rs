@@ -11,11 +11,18 @@
 //! show has one set of frames whichever command reads it; the frames are
 //! reached only through [`Prepared::for_each_block`] and
 //! [`Prepared::fill_frame`].
+//!
+//! The show's song (`[show] music`) is heard, decoded and analysed, on first
+//! use of [`Prepared::song`] and then kept: `check` and `compile` need it,
+//! `events` and `preview` do not, and none hears it twice.
+
+use std::sync::OnceLock;
 
 use crate::cues::{self, Lights};
 use crate::events::{Event, find_events};
 use crate::model::Show;
 use crate::motion::{PropMotion, simulate};
+use crate::music::{self, MusicError, Song};
 use crate::power;
 
 /// The most LED-frames (frames times LEDs, every prop together) a show may
@@ -47,6 +54,8 @@ pub struct Prepared {
     /// Per prop, the scale applied to its brightness by `brightness_limit`
     /// (`None` where the prop has no limit).
     brightness_scales: Vec<Option<f64>>,
+    /// The song, once heard.
+    song: OnceLock<Result<Song, MusicError>>,
 }
 
 impl Prepared {
@@ -67,6 +76,7 @@ impl Prepared {
             events,
             lights,
             brightness_scales,
+            song: OnceLock::new(),
         })
     }
 
@@ -95,6 +105,18 @@ impl Prepared {
     /// (1 when it needed none), or `None` for a prop without the limit.
     pub fn brightness_scale(&self, prop: usize) -> Option<f64> {
         self.brightness_scales.get(prop).copied().flatten()
+    }
+
+    /// The show's song, heard on the first call (decoded, its beat grid
+    /// found, its file's CRC-32 taken) and kept for later calls; `None` for
+    /// a show without `music`. Safe to call from several threads: the song
+    /// is heard once.
+    pub fn song(&self) -> Option<Result<&Song, &MusicError>> {
+        let m = self.show.music.as_ref()?;
+        let heard = self
+            .song
+            .get_or_init(|| music::hear(&m.path, &music::Options::default()));
+        Some(heard.as_ref())
     }
 
     /// Frames in every table of the show.

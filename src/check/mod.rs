@@ -10,7 +10,9 @@
 //! counts after W3C WCAG 2.x per prop and for the whole stage, LED current
 //! and battery time ([`light`]), and how far each cue's colour changes land
 //! from their events ([`landing`]). For every cue that paints a picture,
-//! how much of it the LEDs pass ([`coverage`]). [`report`] holds the result.
+//! how much of it the LEDs pass ([`coverage`]). For a show with `music`,
+//! its beat grid against the song's beats and its end against the song's
+//! ([`music`]). [`report`] holds the result.
 //!
 //! Staffs: a staff is a rigid rod held at the grip, with two ends (the head
 //! end, which traces the pattern's head path, and the tail end opposite).
@@ -35,6 +37,7 @@ pub mod jumps;
 pub mod kin;
 pub mod landing;
 pub mod light;
+pub mod music;
 mod overlap;
 pub mod prop;
 pub mod reach;
@@ -97,7 +100,7 @@ impl Default for CheckSettings {
 pub const MAX_SAMPLES: f64 = 2e8;
 
 /// Why a show could not be checked.
-#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+#[derive(Clone, Debug, thiserror::Error)]
 pub enum CheckError {
     /// The searches would need more than [`MAX_SAMPLES`] samples (or a
     /// pattern turns so fast that the count is not finite).
@@ -120,20 +123,28 @@ pub enum CheckError {
         /// Texel tests needed over the show.
         tests: f64,
     },
+    /// The show's song could not be read or decoded.
+    #[error("{0}")]
+    Music(#[from] crate::music::MusicError),
 }
 
-/// Checks the prepared show: physics, stage, light, hardware, landing and
-/// picture coverage, with `settings`; refuses a show whose checks would need
+/// Checks the prepared show: physics, stage, light, hardware, landing,
+/// picture coverage and the song, with `settings`; refuses a show whose checks would need
 /// more than [`MAX_SAMPLES`] samples or [`coverage::MAX_TEXEL_TESTS`]
 /// texel tests, before any of the work. The frames are read while the
-/// motion is checked.
+/// motion is checked and the song is heard.
 pub fn check(prepared: &Prepared, settings: &CheckSettings) -> Result<CheckReport, CheckError> {
     within_budget(prepared, settings)?;
-    let (frames, motion) = rayon::join(
-        || frame_figures(prepared),
-        || motion_figures(prepared, settings),
+    let ((frames, motion), music) = rayon::join(
+        || {
+            rayon::join(
+                || frame_figures(prepared),
+                || motion_figures(prepared, settings),
+            )
+        },
+        || music::scan(prepared),
     );
-    Ok(report_of(prepared, motion?, frames, settings))
+    Ok(report_of(prepared, motion?, frames, music?, settings))
 }
 
 /// Sample intervals the checks of `show` need, over all searches.
@@ -312,6 +323,7 @@ pub(crate) fn report_of(
     prepared: &Prepared,
     motion: MotionFigures,
     frames: FrameFigures,
+    music: Option<music::MusicScan>,
     settings: &CheckSettings,
 ) -> CheckReport {
     let MotionFigures {
@@ -361,6 +373,10 @@ pub(crate) fn report_of(
     warnings.extend(overlap::scan(show, lights));
     warnings.extend(landing_warnings);
     warnings.extend(coverage_warnings);
+    let music = music.map(|m| {
+        warnings.extend(m.warnings);
+        m.figures
+    });
     let start = show.tempo.start_s();
     let mut report = CheckReport {
         valid: true,
@@ -378,6 +394,7 @@ pub(crate) fn report_of(
         cues: cue_landings,
         landing: Some(landing_summary),
         paintings,
+        music,
         warnings,
         errors: Vec::new(),
         cautions: Vec::new(),

@@ -14,6 +14,7 @@ use serde::ser::{SerializeMap, Serializer};
 use super::coverage::PaintingCoverage;
 use super::landing::{CueLanding, LandingSummary};
 use super::light::FlashFigures;
+use super::music::MusicFigures;
 use crate::model::Show;
 use crate::num::round_to;
 
@@ -45,6 +46,8 @@ pub enum WarningKind {
     Coverage,
     /// A later cue on the same prop hides some of a cue's frames.
     Overlap,
+    /// The show's beats stray from its song's, or the show outlasts the song.
+    Music,
 }
 
 impl WarningKind {
@@ -63,6 +66,7 @@ impl WarningKind {
             WarningKind::Drift => "drift",
             WarningKind::Coverage => "coverage",
             WarningKind::Overlap => "overlap",
+            WarningKind::Music => "music",
         }
     }
 }
@@ -510,6 +514,10 @@ pub struct CheckReport {
     pub landing: Option<LandingSummary>,
     /// How much of its picture each painting cue's LEDs pass, in cue order.
     pub paintings: Vec<PaintingCoverage>,
+    /// The show against its song (left out of the JSON for a show without
+    /// `music`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub music: Option<MusicFigures>,
     /// Every warning, sorted by time, then kind, then prop.
     pub warnings: Vec<Warning>,
     /// Why the show is invalid (empty when valid).
@@ -578,6 +586,7 @@ impl CheckReport {
             cues: Vec::new(),
             landing: None,
             paintings: Vec::new(),
+            music: None,
             warnings: Vec::new(),
             errors,
             cautions: Vec::new(),

@@ -7,6 +7,7 @@ use std::io::{self, Write};
 use super::coverage::PaintingCoverage;
 use super::landing::{CueLanding, LandingSummary};
 use super::light::FlashFigures;
+use super::music::MusicFigures;
 use super::report::{CheckReport, PairFigures, PropFigures, Rect, Stage, When};
 
 impl CheckReport {
@@ -47,6 +48,9 @@ impl CheckReport {
         }
         if !self.paintings.is_empty() {
             write_paintings(out, &self.paintings)?;
+        }
+        if let Some(m) = &self.music {
+            write_music(out, m)?;
         }
         let expected = self.warnings.len() - self.unexpected_warnings();
         if expected > 0 {
@@ -282,6 +286,23 @@ fn write_paintings(out: &mut dyn Write, paintings: &[PaintingCoverage]) -> io::R
         )?;
     }
     Ok(())
+}
+
+fn write_music(out: &mut dyn Write, m: &MusicFigures) -> io::Result<()> {
+    let file = crate::diag::escape(&m.file);
+    let song = match (m.song_bpm, m.song_start_s) {
+        (Some(bpm), Some(start)) => format!(", {bpm:.2} bpm from {start:.3} s"),
+        _ => ", no steady beat".to_string(),
+    };
+    writeln!(out, "\nMusic `{file}`: {:.3} s{song}", m.duration_s)?;
+    match (m.max_offset_ms, m.max_offset_at) {
+        (Some(ms), Some(at)) => writeln!(
+            out,
+            "  show beats off the song's  {ms:.1} ms at most, at {at} ({} beats compared; limit {} ms)",
+            m.beats_compared, m.limit_ms
+        ),
+        _ => writeln!(out, "  show beats off the song's  none compared"),
+    }
 }
 
 fn write_pair(out: &mut dyn Write, p: &PairFigures) -> io::Result<()> {

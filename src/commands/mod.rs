@@ -37,9 +37,12 @@ pub enum Failure {
     /// The preview could not be rendered or written.
     #[error("error: {0}\n")]
     Preview(#[from] PreviewError),
-    /// A song could not be read or analysed, or a practice track written.
+    /// A song could not be read or analysed.
     #[error("error: {0}\n")]
-    Music(String),
+    Music(#[from] crate::music::MusicError),
+    /// A practice track could not be made or written.
+    #[error("error: {0}\n")]
+    Rehearse(#[from] rehearse::RehearseError),
     /// An option's value is out of range.
     #[error("error: {0}\n")]
     Option(String),

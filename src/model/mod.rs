@@ -27,6 +27,9 @@ pub struct Show {
     pub frame_rate_hz: u32,
     /// Beats and bars against seconds.
     pub tempo: TempoMap,
+    /// The show's song (`[show] music`), if it has one: its time 0 is the
+    /// tables' time 0.
+    pub music: Option<Music>,
     /// The props, in file order.
     pub props: Vec<Prop>,
     /// The named spin patterns, in file order.
@@ -42,6 +45,20 @@ pub struct Show {
     /// The reader's warnings (old key values still read, and the like):
     /// the show is used, and every command prints them.
     pub notes: Vec<crate::diag::Diagnostic>,
+}
+
+/// The song a show is set to: a file beside the show, whose header the
+/// reader has checked (the song is decoded and analysed later, by
+/// [`crate::prepared::Prepared::song`], only by the commands that need it).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Music {
+    /// The file as the show names it.
+    pub file: String,
+    /// The file's path: `file` read from the show file's folder.
+    pub path: std::path::PathBuf,
+    /// Where the `music` key is written in the show file, bytes (to locate
+    /// warnings).
+    pub offset: usize,
 }
 
 /// What kind of prop it is.
@@ -490,6 +507,7 @@ pub const WARNING_KINDS: &[&str] = &[
     "drift",
     "coverage",
     "overlap",
+    "music",
 ];
 
 /// A warning the show's author knows of and means (`[[expected]]`).

@@ -12,7 +12,14 @@ use super::reader::Bounds;
 pub(super) const TOP_KEYS: &[&str] = &[
     "show", "tempo", "prop", "pattern", "section", "cue", "expected",
 ];
-pub(super) const SHOW_KEYS: &[&str] = &["title", "frame_rate", "bpm", "beats_per_bar", "start_s"];
+pub(super) const SHOW_KEYS: &[&str] = &[
+    "title",
+    "frame_rate",
+    "bpm",
+    "beats_per_bar",
+    "start_s",
+    "music",
+];
 pub(super) const TEMPO_KEYS: &[&str] = &["bar", "bpm"];
 pub(super) const PROP_KEYS: &[&str] = &[
     "kind",

@@ -22,7 +22,7 @@ use std::sync::Arc;
 use toml::de::{DeTable, DeValue};
 
 use crate::diag::{Diagnostic, Diagnostics, Source};
-use crate::model::{Show, TempoMap};
+use crate::model::{Music, Show, TempoMap};
 use keys::{BPM, SHOW_KEYS, START_S, TOP_KEYS};
 use reader::{Ctx, Tbl, describe, join};
 
@@ -220,6 +220,7 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
     let bpm = ctx.required_number(header, "bpm", BPM);
     let beats_per_bar = ctx.integer_in(header, "beats_per_bar", 1..=64).unwrap_or(4) as u32;
     let start_s = ctx.number_in(header, "start_s", START_S).unwrap_or(0.0);
+    let music = music(ctx, header);
 
     let changes = sections::tempo_changes(ctx, root);
     let props = props::props(ctx, root);
@@ -246,6 +247,7 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
         title,
         frame_rate_hz: frame_rate? as u32,
         tempo,
+        music: music?,
         props,
         patterns,
         sections,
@@ -256,6 +258,47 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
     };
     check_work(ctx, root, &show);
     Some(show)
+}
+
+/// `[show] music`: the song's file, read from the show file's folder, its
+/// header checked (it exists, is audio glowscore reads, within the limits);
+/// a bad file is an error at the key's value. `Some(None)` without the key.
+fn music(ctx: &mut Ctx, header: Tbl<'_, '_>) -> Option<Option<Music>> {
+    if header.get("music").is_none() {
+        return Some(None);
+    }
+    let (file, span) = ctx.string(header, "music", false)?;
+    let base = Path::new(&ctx.src.name)
+        .parent()
+        .map(Path::to_path_buf)
+        .unwrap_or_default();
+    let path = base.join(&file);
+    let help =
+        "the path is read from the show file's folder; WAV, FLAC, Ogg Vorbis and MP3 are read";
+    if file.trim().is_empty() {
+        ctx.error_help(
+            "show.music",
+            span,
+            "expected the name of a song file, got an empty string",
+            help,
+        );
+        return None;
+    }
+    match crate::music::probe_file(&path) {
+        Ok(_) => Some(Some(Music {
+            file,
+            path,
+            offset: span.start,
+        })),
+        Err(e) => {
+            // The message names the file as the show writes it.
+            let why = e.to_string();
+            let shown = path.display().to_string();
+            let why = why.strip_prefix(&format!("{shown}: ")).unwrap_or(&why);
+            ctx.error_help("show.music", span, format!("`{file}`: {why}"), help);
+            None
+        }
+    }
 }
 
 /// The most turns of the fastest relative rotation, over all props and

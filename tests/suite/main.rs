@@ -18,6 +18,7 @@ mod formats;
 mod formats_props;
 mod handbook_curves;
 mod music;
+mod music_show;
 mod parser_fuzz;
 mod picture;
 mod pipeline;
