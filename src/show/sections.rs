@@ -10,7 +10,7 @@ use super::keys::*;
 use super::reader::{Ctx, Tbl, Val, describe, join, list};
 use super::{Declared, MAX_BAR, table_array};
 use crate::diag::did_you_mean;
-use crate::model::{Pattern, Placement, Prop, Section};
+use crate::model::{Join, Pattern, Placement, Prop, Section};
 
 /// The tempo changes of `[[tempo]]`, sorted by bar.
 pub(super) fn tempo_changes(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<(u32, f64)> {
@@ -67,9 +67,10 @@ pub(super) fn sections(
         .enumerate()
         .map(|(i, p)| (p.name.as_str(), i))
         .collect();
-    let mut keys = vec!["bars"];
+    let mut keys = SECTION_KEYS.to_vec();
     keys.extend(prop_names.iter().copied());
-    let mut out: Vec<(Section, Range<usize>)> = Vec::new();
+    // Each section with the span of its `bars`, and its `join`'s key path and span.
+    let mut out: Vec<(Section, Range<usize>, (String, Range<usize>))> = Vec::new();
     for (path, table, span) in table_array(ctx, root, "section") {
         let t = Tbl {
             path: &path,
@@ -77,10 +78,13 @@ pub(super) fn sections(
             at: (span.start, span.end),
         };
         let bars = ctx.bar_range(t, "bars", MAX_BAR);
+        let how = ctx
+            .choice(t, "join", "join", JOINS, Some(Join::Restart))
+            .unwrap_or_default();
         let mut placements = vec![None; props.len()];
         for (k, v) in table.iter() {
             let key: &str = k.get_ref();
-            if key == "bars" {
+            if SECTION_KEYS.contains(&key) {
                 continue;
             }
             let kpath = join(&path, key);
@@ -92,7 +96,10 @@ pub(super) fn sections(
                 }
                 let help = match did_you_mean(key, keys.iter().copied()) {
                     Some(s) => format!("did you mean `{s}`?"),
-                    None => format!("a section takes `bars` and prop names: {}", list(&keys)),
+                    None => format!(
+                        "a section takes `bars`, `join` and prop names: {}",
+                        list(&keys)
+                    ),
                 };
                 ctx.error_help(&kpath, k.span(), format!("`{key}` is not a prop"), help);
                 continue;
@@ -106,8 +113,13 @@ pub(super) fn sections(
                     first_bar,
                     last_bar,
                     placements,
+                    join: how,
                 },
                 bspan,
+                (
+                    t.key_path("join"),
+                    t.get("join").map_or(span.clone(), |v| v.span()),
+                ),
             ));
         }
     }
@@ -125,6 +137,16 @@ pub(super) fn sections(
                 ),
             );
         }
+    }
+    if let Some((first, _, (join_path, join_span))) = out.first()
+        && first.join == Join::Continue
+    {
+        ctx.error_help(
+            join_path,
+            join_span.clone(),
+            "the first section has no section before it to continue from",
+            "remove `join` here: the show starts each prop where its first pattern starts",
+        );
     }
     if out.is_empty() && !ctx.diags.has_errors() {
         ctx.error_help(
