@@ -260,8 +260,8 @@ fn advice(
     let angles = match pat.hand.as_slice() {
         [term] if term.turns == 1.0 => {
             let turn = num::deg(fitted.fit.map_or(0.0, |f| f.turn_rad));
-            let hand = (term.start_deg + turn).rem_euclid(360.0);
-            let head = num::deg(fitted.tether_start_rad()).rem_euclid(360.0);
+            let hand = clock_deg(term.start_deg + turn);
+            let head = clock_deg(num::deg(fitted.tether_start_rad()));
             format!(
                 ", or give `{}` (here and wherever it restarts) `hand_start_deg = {hand:.3}, head_start_deg = {head:.3}`",
                 pat.name
@@ -281,4 +281,11 @@ fn advice(
             left * 1000.0
         )
     }
+}
+
+/// An angle in degrees as printed to paste: in [0, 360) to the printed
+/// thousandth (a hair below 360 prints as 0).
+fn clock_deg(deg: f64) -> f64 {
+    let x = deg.rem_euclid(360.0);
+    if x >= 359.9995 { 0.0 } else { x }
 }

@@ -56,7 +56,7 @@ impl Default for PatternOptions {
 }
 
 /// The hand radius listed for the figures that are not stalls, metres: a
-/// small circle of the wrist (the outside contract's example pattern uses it).
+/// small circle of the wrist (the README's example flower uses about this).
 pub const DEFAULT_HAND_RADIUS_M: f64 = 0.15;
 
 /// Samples of one hand revolution for the tension.
@@ -95,26 +95,25 @@ impl Candidate {
         }
     }
 
-    /// The pattern table to paste, on one line (a dotted key with an inline
-    /// table: valid TOML at the top level of a show).
-    pub fn table(&self, plane: Plane, beats: f64) -> String {
-        let mut s = format!(
-            "pattern.{} = {{ plane = \"{}\", beats = {}, figure = \"{}\"",
-            self.pattern_name(),
-            plane.name(),
-            beats,
-            self.figure.name()
-        );
+    /// The pattern table to paste: a `[pattern.NAME]` header and one key a
+    /// line.
+    pub fn table(&self, plane: Plane, beats: f64) -> Vec<String> {
+        let mut lines = vec![
+            format!("[pattern.{}]", self.pattern_name()),
+            format!("plane = \"{}\"", plane.name()),
+            format!("beats = {beats}"),
+        ];
+        if !self.stall {
+            lines.push(format!("hand_radius_m = {}", self.hand_radius_m));
+        }
+        lines.push(format!("figure = \"{}\"", self.figure.name()));
         if self.figure.petals() > 0 {
-            s.push_str(&format!(", petals = {}", self.figure.petals()));
+            lines.push(format!("petals = {}", self.figure.petals()));
         }
         if self.stall {
-            s.push_str(", stall = true");
-        } else {
-            s.push_str(&format!(", hand_radius_m = {}", self.hand_radius_m));
+            lines.push("stall = true".to_string());
         }
-        s.push_str(" }");
-        s
+        lines
     }
 }
 
@@ -209,6 +208,24 @@ fn tension_range(
 
 /// Lists the figures of the show at `path` (see the module's text).
 pub fn run(path: &Path, opts: &PatternOptions, out: &mut dyn Write) -> Result<(), Failure> {
+    if let Some(b) = opts.beats
+        && !(1.0 / 64.0..=10_000.0).contains(&b)
+    {
+        return Err(Failure::Option(format!(
+            "--beats {b}: beats per hand revolution must be 1/64 to 10000"
+        )));
+    }
+    if !(0.0..=10.0).contains(&opts.hand_radius_m) {
+        return Err(Failure::Option(format!(
+            "--hand-radius {}: must be 0 to 10 m",
+            opts.hand_radius_m
+        )));
+    }
+    if opts.max_reach_m.is_some_and(|m| !m.is_finite()) {
+        return Err(Failure::Option(
+            "--max-reach: must be a number of metres".to_string(),
+        ));
+    }
     let prepared = super::prepare(path)?;
     let show = prepared.show();
     if let Some(p) = &opts.prop
@@ -257,14 +274,13 @@ pub fn run(path: &Path, opts: &PatternOptions, out: &mut dyn Write) -> Result<()
             let slack = if c.min_tension_n < 0.0 { " slack" } else { "" };
             writeln!(
                 out,
-                "  {what:<24} petals {:>2}  stalls {:>2}  reach {:.3} m  peak tension {:>7.2} N{slack:<6}  {}",
-                c.petals,
-                c.stalls,
-                c.reach_m,
-                c.max_tension_n,
-                c.table(opts.plane, beats)
+                "\n  {what:<24} petals {:>2}  stalls {:>2}  reach {:.3} m  peak tension {:>7.2} N{slack}",
+                c.petals, c.stalls, c.reach_m, c.max_tension_n,
             )
             .map_err(&w)?;
+            for line in c.table(opts.plane, beats) {
+                writeln!(out, "      {line}").map_err(&w)?;
+            }
         }
     }
     Ok(())

@@ -522,3 +522,63 @@ p = {{ pattern = "b", delay_beats = 0.5 }}
     assert!(r.props[0].joins[0].jump_mm < 1e-6);
     assert!(r.warnings.iter().all(|w| w.kind.name() != "jump"));
 }
+
+#[test]
+fn every_listed_figure_pasted_plays_its_petals_and_stalls() {
+    // `glowscore patterns`: each line's table, pasted into a show, gives a
+    // pattern whose tips and stalls (found by the event finder) are the
+    // petals and stalls listed, and whose reach is the one listed.
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/moth-garden.toml");
+    let opts = glowscore::commands::patterns::PatternOptions {
+        prop: Some("left".to_string()),
+        ..Default::default()
+    };
+    let mut out = Vec::new();
+    glowscore::commands::patterns::run(&path, &opts, &mut out).expect("lists");
+    let text = String::from_utf8(out).unwrap();
+    let mut seen = 0;
+    // Each figure: a summary line, then its table indented, then a blank line.
+    for block in text.split("\n\n").skip(1) {
+        let mut lines = block.lines();
+        let line = lines.next().unwrap();
+        let num = |key: &str| -> f64 {
+            let at = line.find(key).unwrap_or_else(|| panic!("{key} in {line}")) + key.len();
+            line[at..]
+                .split_whitespace()
+                .next()
+                .unwrap()
+                .parse()
+                .unwrap()
+        };
+        let (petals, stalls, reach) = (num("petals "), num("stalls "), num("reach "));
+        let table: Vec<&str> = lines.map(str::trim).collect();
+        let name = table[0]
+            .trim_start_matches("[pattern.")
+            .trim_end_matches(']');
+        let table = table.join("\n");
+        let s = common::show(&format!(
+            "[show]\nframe_rate = 500\nbpm = 60\nbeats_per_bar = 4\n\n[prop.left]\ntether_m = 0.55\nanchor_m = [0, 1.5, 0]\n\n{table}\n\n[[section]]\nbars = [1, 2]\nleft = {{ pattern = \"{name}\", delay_beats = 0.05 }}\n"
+        ));
+        // Two bars of 4 beats: two hand revolutions.
+        assert_eq!(
+            events(&s, EventKind::Tip).len() as f64,
+            2.0 * petals,
+            "{line}"
+        );
+        assert_eq!(
+            events(&s, EventKind::Stall).len() as f64,
+            2.0 * stalls,
+            "{line}"
+        );
+        let m = simulate(&s);
+        let far = (0..4000)
+            .map(|i| {
+                let p = m[0].spans[0].head.point(i as f64 / 4000.0);
+                p[0].hypot(p[1])
+            })
+            .fold(0.0, f64::max);
+        assert!((far - reach).abs() < 1e-3, "{line}: reach {far}");
+        seen += 1;
+    }
+    assert_eq!(seen, 24, "every figure listed:\n{text}");
+}
