@@ -43,6 +43,10 @@ pub(super) fn tempo_changes(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<(u32, f64)>
     changes.into_iter().map(|(b, bpm, _)| (b, bpm)).collect()
 }
 
+/// A section as read, with the span of its `bars`, and its `join`'s key
+/// path and span.
+type Read = (Section, Range<usize>, (String, Range<usize>));
+
 /// The sections of `[[section]]`, sorted by bar.
 pub(super) fn sections(
     ctx: &mut Ctx,
@@ -69,8 +73,7 @@ pub(super) fn sections(
         .collect();
     let mut keys = SECTION_KEYS.to_vec();
     keys.extend(prop_names.iter().copied());
-    // Each section with the span of its `bars`, and its `join`'s key path and span.
-    let mut out: Vec<(Section, Range<usize>, (String, Range<usize>))> = Vec::new();
+    let mut out: Vec<Read> = Vec::new();
     for (path, table, span) in table_array(ctx, root, "section") {
         let t = Tbl {
             path: &path,

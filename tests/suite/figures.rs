@@ -10,6 +10,7 @@ use glowscore::events::find_events;
 use glowscore::geom::Vec3;
 use glowscore::model::{EventKind, Show};
 use glowscore::motion::{PropMotion, simulate};
+use glowscore::num::{cos, pow, sin};
 
 /// A one-prop show (tether 0.5 m, 60 bpm, 4 beats per bar, 4 beats per
 /// hand revolution) playing the pattern given by `keys` for `bars` bars.
@@ -40,7 +41,7 @@ fn head_at(show: &Show, u: f64) -> [f64; 2] {
 fn figures_are_their_raw_keys() {
     // Common practice: extension m = 1 (tether along the arm), isolation
     // m = 1 with the tether opposite, inspin N petals m = N + 1, antispin
-    // N petals m = 1 - N (the outside contract's rule, too).
+    // N petals m = 1 - N.
     let cases = [
         (
             "figure = \"extension\"",
@@ -84,7 +85,7 @@ fn figures_are_their_raw_keys() {
 
 #[test]
 fn stall_sets_the_hand_radius_from_the_prop_that_plays_it() {
-    // Common practice (and the outside contract): R = tether_m * |head_turns|.
+    // Common practice: R = tether_m * |head_turns|.
     for (petals, tether) in [(2u32, 0.5), (3, 0.4), (4, 0.3), (5, 0.25)] {
         let s = common::one_pattern(
             tether,
@@ -189,22 +190,22 @@ fn three_petal_stall_is_the_deltoid_and_four_the_astroid() {
         let t = std::f64::consts::TAU * u;
         let pd = head_at(&deltoid, u);
         let want = [
-            2.0 * b * t.cos() + b * (2.0 * t).cos(),
-            2.0 * b * t.sin() - b * (2.0 * t).sin(),
+            2.0 * b * cos(t) + b * cos(2.0 * t),
+            2.0 * b * sin(t) - b * sin(2.0 * t),
         ];
         assert!(
             (pd[0] - want[0]).abs() < 1e-12 && (pd[1] - want[1]).abs() < 1e-12,
             "deltoid at {u}"
         );
         let pa = head_at(&astroid, u);
-        let want = [a * t.cos().powi(3), a * t.sin().powi(3)];
+        let want = [a * cos(t).powi(3), a * sin(t).powi(3)];
         assert!(
             (pa[0] - want[0]).abs() < 1e-12 && (pa[1] - want[1]).abs() < 1e-12,
             "astroid at {u}"
         );
-        let implicit = pa[0].abs().powf(2.0 / 3.0) + pa[1].abs().powf(2.0 / 3.0);
+        let implicit = pow(pa[0].abs(), 2.0 / 3.0) + pow(pa[1].abs(), 2.0 / 3.0);
         assert!(
-            (implicit - a.powf(2.0 / 3.0)).abs() < 1e-9,
+            (implicit - pow(a, 2.0 / 3.0)).abs() < 1e-9,
             "astroid equation at {u}"
         );
         if let Some((qd, qa)) = last {
@@ -226,7 +227,7 @@ fn two_petal_stall_is_the_straight_line() {
         "figure = \"antispin\"\npetals = 2\nstall = true\nhand_start_deg = 40",
         1,
     );
-    let dir = [40f64.to_radians().cos(), 40f64.to_radians().sin()];
+    let dir = [cos(40f64.to_radians()), sin(40f64.to_radians())];
     let mut far: f64 = 0.0;
     for i in 0..=500 {
         let p = head_at(&s, i as f64 / 500.0);
@@ -383,7 +384,7 @@ s = { pattern = "b", mirror = true, delay_beats = 0.4 }
 /// at 3600 points and refining the best by golden-section search: an
 /// independent computation (no projection formula).
 fn closest_on_circle(centre: Vec3, radius: f64, up: Vec3, right: Vec3, target: Vec3) -> Vec3 {
-    let at = |a: f64| centre + (up * a.cos() + right * a.sin()) * radius;
+    let at = |a: f64| centre + (up * cos(a) + right * sin(a)) * radius;
     let dist = |a: f64| (at(a) - target).norm();
     let n = 3600;
     let step = std::f64::consts::TAU / n as f64;
