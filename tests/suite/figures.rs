@@ -583,3 +583,131 @@ fn every_listed_figure_pasted_plays_its_petals_and_stalls() {
     }
     assert_eq!(seen, 24, "every figure listed:\n{text}");
 }
+
+#[test]
+fn a_continued_stall_still_stops_at_its_tips() {
+    // Carrying the angles on turns and time-shifts a flower (m != 1) but
+    // keeps its shape: the stall figure still stops dead at R + r.
+    let s = joined(
+        "hand_radius_m = 1.1\nfigure = \"inspin\"\npetals = 2",
+        "wall",
+        "figure = \"antispin\"\npetals = 3\nstall = true",
+        "wall",
+        0.2,
+    );
+    let r = report(&s);
+    assert!(
+        r.props[0].joins[0].jump_mm < 1e-6,
+        "{:?}",
+        r.props[0].joins[0]
+    );
+    let stalls: Vec<_> = events(&s, EventKind::Stall)
+        .into_iter()
+        .filter(|e| e.beat > 8.0)
+        .collect();
+    // Bars 3-5 at 2 beats a hand revolution: 6 revolutions, 3 stalls each
+    // (one may fall on the end of the section, which has no events).
+    assert!(stalls.len() >= 17, "{} stalls", stalls.len());
+    let anchor = s.props[0].anchor_m;
+    for e in &stalls {
+        assert!(e.speed_m_s < 1e-6);
+        assert!(((e.position_m - anchor).norm() - 3.0 * 0.55).abs() < 1e-6);
+    }
+}
+
+#[test]
+fn continuing_from_rest_turns_the_hand_toward_the_hanging_head() {
+    // Rest before the section: hand at the anchor, head hanging straight
+    // down. Every hand angle is as near; the hand goes toward the head
+    // (6 o'clock) and the tether points down from it: the head jumps R.
+    let s = common::show(
+        r#"
+[show]
+frame_rate = 500
+bpm = 100
+beats_per_bar = 4
+
+[prop.p]
+tether_m = 0.5
+anchor_m = [0, 1.5, 0]
+
+[prop.q]
+tether_m = 0.5
+anchor_m = [2, 1.5, 0]
+
+[pattern.f]
+plane = "wall"
+beats = 4
+hand_radius_m = 0.15
+figure = "antispin"
+petals = 4
+
+[[section]]
+bars = [1, 1]
+q = "f"
+
+[[section]]
+bars = [2, 3]
+join = "continue"
+p = "f"
+"#,
+    );
+    let m = simulate(&s);
+    let span = &m[0].spans[0];
+    let u = span.phase(0.0);
+    let hand = span.to_stage(span.hand.point(u));
+    let head = span.to_stage(span.head.point(u));
+    let anchor = s.props[0].anchor_m;
+    assert!((hand - (anchor - Vec3::new(0.0, 0.15, 0.0))).norm() < 1e-12);
+    assert!((head - (anchor - Vec3::new(0.0, 0.65, 0.0))).norm() < 1e-12);
+    let j = &report(&s).props[0].joins[0];
+    assert!((j.jump_mm - 150.0).abs() < 1e-6, "{} mm", j.jump_mm);
+    assert_eq!(j.from, "rest");
+}
+
+#[test]
+fn the_listing_filters_by_petals_reach_and_stall() {
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/moth-garden.toml");
+    let list = |opts: glowscore::commands::patterns::PatternOptions| {
+        let mut out = Vec::new();
+        glowscore::commands::patterns::run(&path, &opts, &mut out).expect("lists");
+        let text = String::from_utf8(out).unwrap();
+        text.lines()
+            .filter(|l| l.trim_start().starts_with("[pattern."))
+            .map(|l| l.trim().to_string())
+            .collect::<Vec<_>>()
+    };
+    let base = glowscore::commands::patterns::PatternOptions {
+        prop: Some("left".to_string()),
+        ..Default::default()
+    };
+    let four = list(glowscore::commands::patterns::PatternOptions {
+        petals: Some(4),
+        ..base.clone()
+    });
+    assert_eq!(
+        four,
+        [
+            "[pattern.inspin_4]",
+            "[pattern.antispin_4]",
+            "[pattern.antispin_4_stall]"
+        ]
+    );
+    let stalls = list(glowscore::commands::patterns::PatternOptions {
+        stall: true,
+        // Tether 0.55: a stall of N petals reaches 0.55 N.
+        max_reach_m: Some(1.7),
+        ..base.clone()
+    });
+    assert_eq!(
+        stalls,
+        ["[pattern.antispin_2_stall]", "[pattern.antispin_3_stall]"]
+    );
+    assert!(
+        list(glowscore::commands::patterns::PatternOptions {
+            max_reach_m: Some(0.3),
+            ..base
+        })
+        .is_empty()
+    );
+}
