@@ -35,10 +35,10 @@ pub struct JoinFigures {
     /// `restart` or `continue`: the `join` of the section that starts there
     /// (`restart` where no section starts, the prop coming to rest).
     pub join: &'static str,
-    /// What the prop plays before: a pattern's name in backquotes, or `rest`.
-    pub from: String,
-    /// What it plays after.
-    pub to: String,
+    /// The pattern the prop plays before (null: it rests).
+    pub from: Option<String>,
+    /// The pattern it plays after (null: it rests).
+    pub to: Option<String>,
     /// The jump of the end that jumps furthest, millimetres.
     #[serde(serialize_with = "r9")]
     pub jump_mm: f64,
@@ -64,7 +64,8 @@ struct Side {
     ends: Vec<Vec3>,
     /// The head end's velocity, m/s.
     velocity: Vec3,
-    name: String,
+    /// The pattern's name, `None` at rest.
+    pattern: Option<String>,
     /// The span, if the prop plays.
     span: Option<usize>,
 }
@@ -116,7 +117,7 @@ fn side(show: &Show, motion: &PropMotion, beat: f64, after: bool) -> Side {
                 hand: s.to_stage(s.hand.point(s.phase(x))),
                 ends: ends_at(show, motion, s, x),
                 velocity: k.head[1],
-                name: format!("`{}`", show.patterns[s.pattern].name),
+                pattern: Some(show.patterns[s.pattern].name.clone()),
                 span: Some(i),
             }
         }
@@ -128,7 +129,7 @@ fn side(show: &Show, motion: &PropMotion, beat: f64, after: bool) -> Side {
                 .map(|&along| motion.rest_point(along))
                 .collect(),
             velocity: Vec3::zeros(),
-            name: "rest".to_string(),
+            pattern: None,
             span: None,
         },
     }
@@ -183,8 +184,8 @@ pub fn joins(show: &Show, motion: &PropMotion, limit_m: f64) -> (Vec<JoinFigures
         figures.push(JoinFigures {
             at,
             join: how.name(),
-            from: before.name.clone(),
-            to: after.name.clone(),
+            from: before.pattern.clone(),
+            to: after.pattern.clone(),
             jump_mm: d * 1000.0,
             end: what,
             hand_jump_mm: hand_jump * 1000.0,
@@ -219,8 +220,8 @@ pub fn joins(show: &Show, motion: &PropMotion, limit_m: f64) -> (Vec<JoinFigures
                 "{name}: the {what} jumps {:.1} mm at the start of bar {} (from {} to {}; {also}the hand jumps {:.1} mm){advice}",
                 d * 1000.0,
                 at.bar,
-                before.name,
-                after.name,
+                playing(&before.pattern),
+                playing(&after.pattern),
                 hand_jump * 1000.0
             ),
             ..Warning::UNGATHERED
@@ -288,4 +289,12 @@ fn advice(
 fn clock_deg(deg: f64) -> f64 {
     let x = deg.rem_euclid(360.0);
     if x >= 359.9995 { 0.0 } else { x }
+}
+
+/// What a prop plays, for messages: a pattern's name in backquotes, or `rest`.
+pub fn playing(pattern: &Option<String>) -> String {
+    match pattern {
+        Some(name) => format!("`{name}`"),
+        None => "rest".to_string(),
+    }
 }

@@ -184,8 +184,8 @@ fn write_prop(out: &mut dyn Write, p: &PropFigures) -> io::Result<()> {
             j.speed_before_m_s,
             j.speed_after_m_s,
             j.kink_m_s,
-            j.from,
-            j.to
+            super::jumps::playing(&j.from),
+            super::jumps::playing(&j.to)
         )?;
     }
     if let Some(a) = p.peak_current_a {

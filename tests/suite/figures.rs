@@ -662,7 +662,8 @@ p = "f"
     assert!((head - (anchor - Vec3::new(0.0, 0.65, 0.0))).norm() < 1e-12);
     let j = &report(&s).props[0].joins[0];
     assert!((j.jump_mm - 150.0).abs() < 1e-6, "{} mm", j.jump_mm);
-    assert_eq!(j.from, "rest");
+    assert_eq!(j.from, None);
+    assert_eq!(j.to.as_deref(), Some("f"));
 }
 
 #[test]
