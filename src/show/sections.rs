@@ -10,7 +10,7 @@ use super::keys::*;
 use super::reader::{Ctx, Tbl, Val, describe, join, list};
 use super::{Declared, MAX_BAR, table_array};
 use crate::diag::did_you_mean;
-use crate::model::{Join, Pattern, Placement, Prop, Section};
+use crate::model::{Join, Pattern, Placement, Prop, Section, stall_radius_m};
 
 /// The tempo changes of `[[tempo]]`, sorted by bar.
 pub(super) fn tempo_changes(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<(u32, f64)> {
@@ -108,6 +108,9 @@ pub(super) fn sections(
                 continue;
             };
             placements[prop] = placement(ctx, &kpath, v, &known);
+            if let Some(pl) = placements[prop] {
+                check_stall(ctx, &kpath, v.span(), &props[prop], &patterns[pl.pattern]);
+            }
         }
         if let Some((first_bar, last_bar, bspan)) = bars {
             out.push((
@@ -213,5 +216,28 @@ fn placement(ctx: &mut Ctx, path: &str, v: &Val<'_>, patterns: &Patterns<'_>) ->
             );
             None
         }
+    }
+}
+
+/// Refuses a stall whose hand circle (`tether_m * |head_turns|` of the prop
+/// that plays it) would be larger than any `hand_radius_m` may be.
+fn check_stall(ctx: &mut Ctx, path: &str, span: Range<usize>, prop: &Prop, pattern: &Pattern) {
+    if !pattern.stall {
+        return;
+    }
+    let r = stall_radius_m(prop.tether_m, pattern.head_turns);
+    if !RADIUS_M.contains(r) {
+        ctx.error_help(
+            path,
+            span,
+            format!(
+                "`{}` is a stall: on `{}` it needs `hand_radius_m = {r}` (tether_m {} x {}), more than a hand radius may be",
+                pattern.name,
+                prop.name,
+                prop.tether_m,
+                pattern.head_turns.abs()
+            ),
+            format!("a hand radius is {}: give this prop fewer petals or a shorter tether", RADIUS_M.describe()),
+        );
     }
 }
