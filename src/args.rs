@@ -68,6 +68,32 @@ pub enum Command {
         #[arg(long, default_value_t = 10.0, allow_hyphen_values = true)]
         tolerance_mm: f64,
     },
+    /// List the trade figures each prop can play (petals, stalls, reach, peak tension at the show's tempo), each with its pattern table.
+    Patterns {
+        /// The show file (TOML).
+        show: PathBuf,
+        /// Only this prop.
+        #[arg(long, value_name = "NAME")]
+        prop: Option<String>,
+        /// Only figures with N petals.
+        #[arg(long, value_name = "N")]
+        petals: Option<u32>,
+        /// Only figures whose head stays within M metres of the anchor.
+        #[arg(long, value_name = "M", allow_hyphen_values = true)]
+        max_reach: Option<f64>,
+        /// Only figures whose head stops (stalls).
+        #[arg(long)]
+        stall: bool,
+        /// The plane: wall, wheel or floor.
+        #[arg(long, value_enum, default_value_t = PlaneArg::Wall)]
+        plane: PlaneArg,
+        /// Beats per hand revolution (default: the show's beats per bar).
+        #[arg(long, value_name = "B")]
+        beats: Option<f64>,
+        /// Hand radius of the figures that are not stalls, metres.
+        #[arg(long, value_name = "R", default_value_t = glowscore::commands::patterns::DEFAULT_HAND_RADIUS_M)]
+        hand_radius: f64,
+    },
     /// Render a long-exposure picture of the show, or of some bars of it, as a PNG.
     Preview(Box<PreviewArgs>),
     /// Find a song's tempo, beats, downbeats and tempo changes (WAV, FLAC, Ogg Vorbis, MP3).
@@ -98,6 +124,27 @@ pub enum Command {
         #[arg(long, value_name = "SONG")]
         song: Option<PathBuf>,
     },
+}
+
+/// A plane of motion.
+#[derive(Clone, Copy, clap::ValueEnum)]
+pub enum PlaneArg {
+    /// Facing the audience.
+    Wall,
+    /// Side-on.
+    Wheel,
+    /// Horizontal.
+    Floor,
+}
+
+impl From<PlaneArg> for glowscore::model::Plane {
+    fn from(p: PlaneArg) -> Self {
+        match p {
+            PlaneArg::Wall => glowscore::model::Plane::Wall,
+            PlaneArg::Wheel => glowscore::model::Plane::Wheel,
+            PlaneArg::Floor => glowscore::model::Plane::Floor,
+        }
+    }
 }
 
 /// The binary form embedded in the C header.

@@ -70,6 +70,27 @@ fn dispatch(command: Command) -> Result<(), Failure> {
             deny_warnings,
             tolerance_mm,
         } => commands::check::run(&show, json, deny_warnings, tolerance_mm, stdout),
+        Command::Patterns {
+            show,
+            prop,
+            petals,
+            max_reach,
+            stall,
+            plane,
+            beats,
+            hand_radius,
+        } => {
+            let opts = commands::patterns::PatternOptions {
+                prop,
+                petals,
+                max_reach_m: max_reach,
+                stall,
+                plane: plane.into(),
+                beats,
+                hand_radius_m: hand_radius,
+            };
+            commands::patterns::run(&show, &opts, stdout)
+        }
         Command::Preview(a) => commands::preview::run(&a.show, &a.out, &a.options(), stdout),
         Command::Tempo {
             song,

@@ -302,8 +302,10 @@ pub(crate) fn motion_figures(
         warnings.extend(s.warnings);
         props.push(s.figures);
     }
-    for m in motions {
-        warnings.extend(jumps::jumps(show, m, settings.jump_limit()));
+    for (m, figures) in motions.iter().zip(&mut props) {
+        let (joins, w) = jumps::joins(show, m, settings.jump_limit());
+        figures.joins = joins;
+        warnings.extend(w);
     }
     Ok(MotionFigures {
         any: !motions.is_empty(),

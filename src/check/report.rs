@@ -307,6 +307,8 @@ pub struct PropFigures {
     /// left out of the JSON).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub ends: Vec<EndFigures>,
+    /// Every section boundary inside the show: the jump and the kink there.
+    pub joins: Vec<super::jumps::JoinFigures>,
     /// Peak LED current, amperes (filled by the light checks; null until then).
     #[serde(serialize_with = "r9_opt")]
     pub peak_current_a: Option<f64>,

@@ -172,6 +172,26 @@ fn write_prop(out: &mut dyn Write, p: &PropFigures) -> io::Result<()> {
         p.reach_from_centre_m,
         at(&p.reach_from_centre_at)
     )?;
+    for (i, j) in p.joins.iter().enumerate() {
+        let lead = if i == 0 {
+            "  joins       "
+        } else {
+            "              "
+        };
+        writeln!(
+            out,
+            "{lead}   bar {:<4} {:<8} jump {:>8.1} mm (hand {:.1} mm), speed {:.3} -> {:.3} m/s, kink {:.3} m/s ({} to {})",
+            j.at.bar,
+            j.join,
+            j.jump_mm,
+            j.hand_jump_mm,
+            j.speed_before_m_s,
+            j.speed_after_m_s,
+            j.kink_m_s,
+            super::jumps::playing(&j.from),
+            super::jumps::playing(&j.to)
+        )?;
+    }
     if let Some(a) = p.peak_current_a {
         writeln!(
             out,

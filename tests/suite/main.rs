@@ -12,6 +12,7 @@ mod demo_golden;
 mod deterministic_maths;
 mod errors;
 mod event_properties;
+mod figures;
 mod folder;
 mod format_docs;
 mod formats;

@@ -443,8 +443,8 @@ s = "b"
         "tail chord",
     );
     let msg = &jumps[0].message;
-    assert!(msg.contains("the tail end jumps 1.273 m"), "{msg}");
-    assert!(msg.contains("the head end jumps 0.424 m"), "{msg}");
+    assert!(msg.contains("the tail end jumps 1272.8 mm"), "{msg}");
+    assert!(msg.contains("the head end jumps 424.3 mm"), "{msg}");
 }
 
 /// Two props with halves of 0.5 m, both plain spins starting at 12 o'clock:
