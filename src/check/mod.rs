@@ -111,7 +111,7 @@ pub enum CheckError {
     /// The picture coverage would need more than
     /// [`coverage::MAX_TEXEL_TESTS`] texel tests.
     #[error(
-        "checking how much of the pictures the LEDs reach would take {tests:.3e} texel tests, more than the limit of {max:.0e} (cue {cue} needs the most): use fewer LEDs, a lower frame rate or shorter painting cues",
+        "checking how much of the pictures the LEDs reach would take {tests:.3e} texel tests, more than the limit of {max:.0e} (cue {cue}, `cue[{cue}]` at {at}, needs the most): use fewer LEDs, a lower frame rate or shorter painting cues",
         max = coverage::MAX_TEXEL_TESTS
     )]
     TooMuchPainting {
@@ -119,6 +119,8 @@ pub enum CheckError {
         cue: usize,
         /// Texel tests needed over the show.
         tests: f64,
+        /// Where that cue is: `FILE:LINE`.
+        at: String,
     },
 }
 
@@ -173,13 +175,18 @@ pub(crate) fn within_budget(
     if samples.is_nan() || samples > MAX_SAMPLES {
         return Err(CheckError::TooMuchWork { samples });
     }
-    coverage::within_budget(show, motions).map_err(painting_error)
+    coverage::within_budget(show, motions).map_err(|e| painting_error(show, e))
 }
 
-fn painting_error(e: coverage::TooMuchPainting) -> CheckError {
+fn painting_error(show: &Show, e: coverage::TooMuchPainting) -> CheckError {
+    let line = show
+        .cues
+        .get(e.cue)
+        .map_or(0, |c| show.source.line_col(c.offset).0);
     CheckError::TooMuchPainting {
         cue: e.cue,
         tests: e.tests,
+        at: crate::diag::escape(&format!("{}:{line}", show.source.name)),
     }
 }
 
@@ -272,7 +279,7 @@ pub(crate) fn motion_figures(
         },
         || coverage::scan(show, motions),
     );
-    let (paintings, coverage_warnings) = painted.map_err(painting_error)?;
+    let (paintings, coverage_warnings) = painted.map_err(|e| painting_error(show, e))?;
     let mut pairs = Vec::new();
     let mut warnings = Vec::new();
     for (i, a) in motions.iter().enumerate() {
@@ -361,11 +368,10 @@ pub(crate) fn report_of(
     warnings.extend(overlap::scan(show, lights));
     warnings.extend(landing_warnings);
     warnings.extend(coverage_warnings);
-    let start = show.tempo.start_s();
     let mut report = CheckReport {
         valid: true,
         title: show.title.clone(),
-        duration_s: show.end_s() - start,
+        duration_s: show.end_s(),
         props,
         pairs,
         stage: any.then(|| reach::stage(centre, &hands, &heads, settings.clear_margin_m)),

@@ -18,8 +18,9 @@ impl CheckReport {
         }
         writeln!(
             out,
-            "Check of \"{}\": {:.3} s from bar 1 beat 1 to the end",
-            self.title, self.duration_s
+            "Check of \"{}\": {:.3} s long (from frame 0 to the end of the last section)",
+            crate::diag::escape(&self.title),
+            self.duration_s
         )?;
         for p in &self.props {
             write_prop(out, p)?;
