@@ -129,7 +129,7 @@ pub enum CompileError {
     #[error("{0}")]
     Folder(#[from] crate::folder::FolderError),
     /// A file or folder could not be made, written or moved into place.
-    #[error("cannot write `{}`: {source}", path.display())]
+    #[error("cannot write `{}`: {}", path.display(), crate::diag::io_phrase(source))]
     Io {
         /// The file or folder.
         path: PathBuf,
@@ -269,11 +269,14 @@ pub fn check_output_size(show: &Show, opts: &CompileOptions) -> Result<(), Compi
     let share = |k: &str| parts.iter().find(|p| p.0 == k).map_or(0, |p| p.1);
     let mut advice = Vec::new();
     let mut left = total;
-    for (key, option) in [
+    // The largest saving first, until the rest fits.
+    let mut options = [
         ("previews", "--no-previews"),
         ("csv", "--skip csv"),
         ("header", "--skip header"),
-    ] {
+    ];
+    options.sort_by_key(|(key, _)| std::cmp::Reverse(share(key)));
+    for (key, option) in options {
         if share(key) > 0 && left > MAX_OUTPUT_BYTES {
             advice.push(format!("{option} (saves up to {})", size(share(key))));
             left -= share(key);

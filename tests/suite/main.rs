@@ -26,6 +26,7 @@ mod preview_output;
 mod preview_paint;
 mod preview_physics;
 mod readme_keys;
+mod refusals;
 mod staff_kinematics;
 mod strips;
 mod trade_facts;
