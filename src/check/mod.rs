@@ -102,11 +102,14 @@ pub enum CheckError {
     /// The searches would need more than [`MAX_SAMPLES`] samples (or a
     /// pattern turns so fast that the count is not finite).
     #[error(
-        "checking this show would take {samples:.3e} samples, more than the limit of {MAX_SAMPLES:.0e}: the show is too long or its patterns turn too fast"
+        "checking this show would take {samples:.3e} samples, more than the limit of {MAX_SAMPLES:.0e}; most are for {at}: the show is too long or its patterns turn too fast (check the sections' bars and the patterns' `beats` and turns)"
     )]
     TooMuchWork {
         /// Sample intervals needed.
         samples: f64,
+        /// The section that needs the most, located: `section[i].bars`
+        /// (bars A-B) at `FILE:LINE`.
+        at: String,
     },
     /// The picture coverage would need more than
     /// [`coverage::MAX_TEXEL_TESTS`] texel tests.
@@ -139,15 +142,25 @@ pub fn check(prepared: &Prepared, settings: &CheckSettings) -> Result<CheckRepor
 }
 
 /// Sample intervals the checks of `show` need, over all searches.
-fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSettings) -> f64 {
+/// The samples the checks need: in all, and per section.
+fn samples_needed(
+    show: &Show,
+    motions: &[PropMotion],
+    settings: &CheckSettings,
+) -> (f64, Vec<f64>) {
     let mut total = 0.0;
+    let mut per_section = vec![0.0; show.sections.len()];
     for m in motions {
         let p = &show.props[m.prop];
         // The extremes pass for every end, and a poi's slack pass.
         let passes = p.ends_m().len() + usize::from(p.kind == crate::model::PropKind::Poi);
         for piece in kin::pieces(show, m) {
             if let Some(i) = piece.span {
-                total += passes as f64 * prop::piece_samples(&m.spans[i], &piece, settings);
+                let n = passes as f64 * prop::piece_samples(&m.spans[i], &piece, settings);
+                total += n;
+                if let Some(s) = per_section.get_mut(m.spans[i].section) {
+                    *s += n;
+                }
             }
         }
     }
@@ -155,12 +168,16 @@ fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSettings)
         for b in &motions[i + 1..] {
             for sa in &a.spans {
                 if let Some(sb) = b.spans.iter().find(|s| s.section == sa.section) {
-                    total += 2.0 * collision::section_samples(sa, sb, settings);
+                    let n = 2.0 * collision::section_samples(sa, sb, settings);
+                    total += n;
+                    if let Some(s) = per_section.get_mut(sa.section) {
+                        *s += n;
+                    }
                 }
             }
         }
     }
-    total
+    (total, per_section)
 }
 
 /// Refuses a show whose checks would need more than [`MAX_SAMPLES`] samples,
@@ -171,9 +188,24 @@ pub(crate) fn within_budget(
     settings: &CheckSettings,
 ) -> Result<(), CheckError> {
     let (show, motions) = (prepared.show(), prepared.motions());
-    let samples = samples_needed(show, motions, settings);
+    let (samples, per_section) = samples_needed(show, motions, settings);
     if samples.is_nan() || samples > MAX_SAMPLES {
-        return Err(CheckError::TooMuchWork { samples });
+        let most =
+            (0..per_section.len()).max_by(|&a, &b| per_section[a].total_cmp(&per_section[b]));
+        let at = most.map_or_else(
+            || "the show".to_string(),
+            |i| {
+                let s = &show.sections[i];
+                crate::diag::escape(&format!(
+                    "`section[{i}].bars` (bars {}-{}) at {}:{}",
+                    s.first_bar,
+                    s.last_bar,
+                    show.source.name,
+                    show.source.line_col(s.offset).0
+                ))
+            },
+        );
+        return Err(CheckError::TooMuchWork { samples, at });
     }
     coverage::within_budget(show, motions).map_err(|e| painting_error(show, e))
 }

@@ -64,7 +64,7 @@ impl CheckReport {
                 .line
                 .map_or_else(String::new, |l| format!(" (show line {l})"));
             let line = match &w.expected {
-                Some(why) => format!("{line} [expected: {why}]"),
+                Some(why) => format!("{line} [expected: {}]", crate::diag::escape(why)),
                 None => line,
             };
             writeln!(
@@ -74,7 +74,7 @@ impl CheckReport {
                 w.at.bar,
                 w.at.beat,
                 w.kind.name(),
-                w.message
+                crate::diag::escape(&w.message)
             )?;
         }
         writeln!(out, "\nCautions")?;
@@ -274,7 +274,7 @@ fn write_paintings(out: &mut dyn Write, paintings: &[PaintingCoverage]) -> io::R
             "  cue {} {} `{}` bars {}-{}: {share} of {} texels ({:.1} mm) in {:.3} s of painting{travel}",
             c.cue,
             c.prop,
-            c.file,
+            crate::diag::escape(&c.file),
             c.bars[0],
             c.bars[1],
             c.texels,

@@ -227,3 +227,77 @@ fn a_full_disk_names_the_file_and_says_so() {
     assert!(err.starts_with("cannot write `left."), "{err}");
     assert!(err.ends_with("no space left on the device"), "{err}");
 }
+
+#[test]
+fn a_picture_outside_the_show_folder_is_read_only_when_the_command_line_allows_it() {
+    let dir = scratch("outside");
+    let shows = dir.join("shows");
+    std::fs::create_dir_all(&shows).unwrap();
+    std::fs::copy(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/moon-and-tide.png"),
+        dir.join("moon.png"),
+    )
+    .unwrap();
+    let file = shows.join("up.toml");
+    let cue =
+        "\n[[cue]]\nprop = \"left\"\nbars = [1, 1]\nimage = \"../moon.png\"\nimage_width_m = 1.0\n";
+    std::fs::write(&file, base(2, cue)).unwrap();
+    let line = refused_alike(&dir, &file, "up.toml:22:9: error in `cue[0].image`");
+    assert!(line.contains("leaves the show file's folder"), "{line}");
+    let allowed = Command::new(env!("CARGO_BIN_EXE_glowscore"))
+        .args(["check", file.to_str().unwrap(), "--allow-outside-pictures"])
+        .output()
+        .unwrap();
+    assert!(
+        allowed.status.success(),
+        "{}",
+        String::from_utf8_lossy(&allowed.stderr)
+    );
+    // A symbolic link in the folder that leads out of it is refused too.
+    #[cfg(unix)]
+    {
+        std::os::unix::fs::symlink(dir.join("moon.png"), shows.join("moon.png")).unwrap();
+        std::fs::write(&file, base(2, &cue.replace("../moon.png", "moon.png"))).unwrap();
+        let line = refused_alike(&dir, &file, "error in `cue[0].image`");
+        assert!(line.contains("a symbolic link"), "{line}");
+    }
+}
+
+#[test]
+fn text_from_the_show_reaches_the_terminal_escaped() {
+    let dir = scratch("escape");
+    let file = dir.join("esc.toml");
+    let text = base(
+        2,
+        "\n[[expected]]\nkind = \"jump\"\nwhy = \"bell \\u0007 and title \\u001b]0;x\\u0007\"\n",
+    )
+    .replace("[show]\n", "[show]\ntitle = \"\\u001b[31mred\\u001b[0m\"\n");
+    std::fs::write(&file, &text).unwrap();
+    for args in [vec!["check"], vec!["compile", "--no-previews", "--out"]] {
+        let mut a: Vec<String> = args.iter().map(|s| s.to_string()).collect();
+        if a.len() > 1 {
+            a.push(dir.join("out").display().to_string());
+        }
+        a.insert(1, file.display().to_string());
+        let run = Command::new(env!("CARGO_BIN_EXE_glowscore"))
+            .args(&a)
+            .output()
+            .unwrap();
+        let all = [run.stdout.as_slice(), run.stderr.as_slice()].concat();
+        assert!(!all.contains(&0x1b) && !all.contains(&0x07), "{a:?}");
+        assert!(
+            String::from_utf8_lossy(&all).contains("\\u{1b}[31mred"),
+            "{a:?}"
+        );
+    }
+    // A bad prop name with an escape in it, in an error.
+    let bad = base(2, "").replace("[prop.left]", "[prop.\"l\\u001bft\"]");
+    std::fs::write(&file, bad).unwrap();
+    let run = Command::new(env!("CARGO_BIN_EXE_glowscore"))
+        .args(["check", file.to_str().unwrap()])
+        .output()
+        .unwrap();
+    assert_eq!(run.status.code(), Some(1));
+    assert!(!run.stderr.contains(&0x1b));
+    assert!(String::from_utf8_lossy(&run.stderr).contains("l\\u{1b}ft"));
+}
