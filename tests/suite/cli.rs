@@ -282,3 +282,40 @@ fn results_go_to_stdout_and_errors_to_stderr_in_every_command() {
     assert!(err.contains("missing.toml: no such file"), "{err}");
     assert!(!err.contains("invalid"), "{err}");
 }
+
+#[test]
+fn compile_draws_progress_on_a_terminal_only_and_not_when_quiet() {
+    // util-linux `script` runs the command on a pseudo-terminal; without it
+    // there is no terminal to test with.
+    if !Path::new("/usr/bin/script").exists() {
+        eprintln!("no /usr/bin/script: skipped");
+        return;
+    }
+    let dir = scratch("progress");
+    let show = demo("moth-garden.toml");
+    let on_tty = |extra: &str| {
+        let cmd = format!(
+            "{} compile {} --out {} --no-previews {extra} >/dev/null",
+            env!("CARGO_BIN_EXE_glowscore"),
+            show.display(),
+            dir.join("out").display()
+        );
+        let out = Command::new("/usr/bin/script")
+            .args(["-qc", &cmd, "/dev/null"])
+            .output()
+            .unwrap();
+        assert!(out.status.success(), "{}", text(&out.stderr));
+        text(&out.stdout)
+    };
+    assert!(on_tty("").contains("writing tables"));
+    assert!(!on_tty("--quiet").contains("writing tables"));
+    // Into a pipe: none (the stream test also checks stderr is empty).
+    let piped = run(&[
+        "compile",
+        show.to_str().unwrap(),
+        "--out",
+        dir.join("out").to_str().unwrap(),
+        "--no-previews",
+    ]);
+    assert!(!text(&piped.stderr).contains("writing tables"));
+}
