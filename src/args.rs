@@ -15,6 +15,10 @@ use glowscore::preview::{self, Pinhole, PreviewOptions, Shutter, View};
 pub struct Cli {
     #[command(subcommand)]
     pub command: Command,
+    /// Let cue pictures be read from outside the show file's folder
+    /// (absolute paths, `..`, symbolic links out of it).
+    #[arg(long, global = true)]
+    pub allow_outside_pictures: bool,
 }
 
 /// The subcommands.
@@ -36,6 +40,12 @@ pub enum Command {
         /// Skip the preview pictures.
         #[arg(long)]
         no_previews: bool,
+        /// Leave out a text form: `csv` or `header` (may be given twice).
+        #[arg(long, value_name = "FORM", value_parser = ["csv", "header"])]
+        skip: Vec<String>,
+        /// Print nothing but errors: no progress, no summary.
+        #[arg(long, short)]
+        quiet: bool,
     },
     /// Print every event of the show (tips, inner points, stalls, angles, beats, bars), sorted by time.
     Events {
@@ -94,7 +104,7 @@ pub enum Command {
         #[arg(long, value_name = "R", default_value_t = glowscore::commands::patterns::DEFAULT_HAND_RADIUS_M)]
         hand_radius: f64,
     },
-    /// Render a long-exposure picture of the show, or of some bars of it, as a PNG.
+    /// Render a long-exposure picture of the show, or of some bars of it, as a PNG or JPEG.
     Preview(Box<PreviewArgs>),
     /// Find a song's tempo, beats, downbeats and tempo changes (WAV, FLAC, Ogg Vorbis, MP3).
     Tempo {
@@ -123,6 +133,16 @@ pub enum Command {
         /// The song to mix in.
         #[arg(long, value_name = "SONG")]
         song: Option<PathBuf>,
+    },
+    /// Write a commented starter show (two poi, eight bars) to build on.
+    New {
+        /// The show file to write (`.toml` is added if it has no extension); never replaced.
+        name: PathBuf,
+    },
+    /// Print a completion script for a shell (bash, zsh, fish, elvish, powershell).
+    Completions {
+        /// The shell.
+        shell: clap_complete::Shell,
     },
 }
 
@@ -170,7 +190,8 @@ impl From<HeaderForm> for TableForm {
 pub struct PreviewArgs {
     /// The show file (TOML).
     pub show: PathBuf,
-    /// The PNG to write (replaced atomically).
+    /// The picture to write: FILE.png, or FILE.jpg / FILE.jpeg for a JPEG
+    /// (replaced atomically; its folder is made if missing).
     #[arg(long, value_name = "FILE.png")]
     pub out: PathBuf,
     /// Bars the shutter is open for, inclusive (default: the whole show).

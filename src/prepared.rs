@@ -35,11 +35,13 @@ pub const MAX_LED_FRAMES: f64 = 1e9;
 pub enum PrepareError {
     /// The show has more than [`MAX_LED_FRAMES`] LED-frames.
     #[error(
-        "the show has {led_frames:.3e} LED-frames (frames times LEDs, every prop together), more than the limit of {MAX_LED_FRAMES:.0e}: lower `show.frame_rate`, shorten the show or use fewer LEDs"
+        "the show has {led_frames:.3e} LED-frames (frames times LEDs, every prop together), more than the limit of {MAX_LED_FRAMES:.0e}; they come from {drivers}: lower `show.frame_rate`, shorten the show or use fewer LEDs"
     )]
     TooManyFrames {
         /// Frames times LEDs, every prop together.
         led_frames: f64,
+        /// The keys that set them, with their lines.
+        drivers: String,
     },
 }
 
@@ -64,7 +66,10 @@ impl Prepared {
         let leds: f64 = show.props.iter().map(|p| f64::from(p.leds)).sum();
         let led_frames = show.frame_count() as f64 * leds;
         if led_frames.is_nan() || led_frames > MAX_LED_FRAMES {
-            return Err(PrepareError::TooManyFrames { led_frames });
+            return Err(PrepareError::TooManyFrames {
+                led_frames,
+                drivers: show.frame_cost_drivers(),
+            });
         }
         let motions = simulate(&show);
         let events = find_events(&show, &motions);

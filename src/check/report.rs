@@ -495,7 +495,9 @@ pub struct CheckReport {
     pub valid: bool,
     /// The show's title.
     pub title: String,
-    /// Bar 1 beat 1 to the end of the last section, seconds.
+    /// The show's length, seconds: from time 0 (frame 0) to the end of
+    /// the last section ([`crate::model::Show::end_s`]), the same figure
+    /// `compile` gives.
     #[serde(serialize_with = "r9")]
     pub duration_s: f64,
     /// Per prop, in file order (a JSON object keyed by prop name).

@@ -19,8 +19,9 @@ impl CheckReport {
         }
         writeln!(
             out,
-            "Check of \"{}\": {:.3} s from bar 1 beat 1 to the end",
-            self.title, self.duration_s
+            "Check of \"{}\": {:.3} s long (from frame 0 to the end of the last section)",
+            crate::diag::escape(&self.title),
+            self.duration_s
         )?;
         for p in &self.props {
             write_prop(out, p)?;
@@ -67,7 +68,7 @@ impl CheckReport {
                 .line
                 .map_or_else(String::new, |l| format!(" (show line {l})"));
             let line = match &w.expected {
-                Some(why) => format!("{line} [expected: {why}]"),
+                Some(why) => format!("{line} [expected: {}]", crate::diag::escape(why)),
                 None => line,
             };
             writeln!(
@@ -77,7 +78,7 @@ impl CheckReport {
                 w.at.bar,
                 w.at.beat,
                 w.kind.name(),
-                w.message
+                crate::diag::escape(&w.message)
             )?;
         }
         writeln!(out, "\nCautions")?;
@@ -297,7 +298,7 @@ fn write_paintings(out: &mut dyn Write, paintings: &[PaintingCoverage]) -> io::R
             "  cue {} {} `{}` bars {}-{}: {share} of {} texels ({:.1} mm) in {:.3} s of painting{travel}",
             c.cue,
             c.prop,
-            c.file,
+            crate::diag::escape(&c.file),
             c.bars[0],
             c.bars[1],
             c.texels,

@@ -7,6 +7,7 @@
 pub mod check;
 pub mod compile;
 pub mod events;
+pub mod new;
 pub mod patterns;
 pub mod preview;
 pub mod rehearse;

@@ -9,6 +9,7 @@ use std::sync::Arc;
 use crate::geom::Vec3;
 
 use crate::diag::Source;
+mod cost;
 mod names;
 mod tempo;
 mod wire;
@@ -646,7 +647,10 @@ impl Show {
         self.props.iter().position(|p| p.name == name)
     }
 
-    /// Time at which the last section ends, seconds.
+    /// Time at which the last section ends, seconds: the show's length,
+    /// from time 0 (frame 0, before bar 1 when `start_s` > 0) to the end of
+    /// the last section. Every command reports this one figure
+    /// (docs/conventions.md, "Colour on the frames").
     pub fn end_s(&self) -> f64 {
         let last = self.sections.iter().map(|s| s.last_bar).max().unwrap_or(0);
         self.tempo.time_at_bar(last + 1)

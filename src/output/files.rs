@@ -33,6 +33,9 @@ pub struct Opening<'a> {
     pub prop: &'a str,
     /// Which binary form the C header embeds.
     pub header_form: TableForm,
+    /// Keys of the formats not to write (only the text forms, `csv` and
+    /// `header`, may be left out).
+    pub skip: &'a [String],
 }
 
 /// One file of a prop being written: frames in, its figures out.
@@ -253,7 +256,8 @@ impl PropFiles {
         };
         // The header's text opens first: the format it embeds writes it.
         let mut header = None;
-        for format in FORMATS.iter().filter(|f| f.open.is_none()) {
+        let wanted = |f: &Format| !opening.skip.iter().any(|k| k == f.key);
+        for format in FORMATS.iter().filter(|f| f.open.is_none() && wanted(f)) {
             let name = name_of(format);
             let text = CHeaderText::new(
                 create(&name)?,
@@ -268,7 +272,7 @@ impl PropFiles {
             header = Some(Background::with_thread(text, threaded));
         }
         let mut files = Vec::with_capacity(FORMATS.len());
-        for format in FORMATS {
+        for format in FORMATS.into_iter().filter(wanted) {
             let name = name_of(&format);
             let Some(open) = format.open else {
                 files.push((format, name, Box::new(Fed) as Box<dyn PropFile>));

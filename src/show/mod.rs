@@ -21,7 +21,7 @@ use std::sync::Arc;
 
 use toml::de::{DeTable, DeValue};
 
-use crate::diag::{Diagnostic, Diagnostics, Source};
+use crate::diag::{Diagnostic, Diagnostics, Source, escape, io_phrase};
 use crate::model::{Music, Show, TempoMap};
 use keys::{BPM, SHOW_KEYS, START_S, TOP_KEYS};
 use reader::{Ctx, Tbl, describe, join};
@@ -58,25 +58,49 @@ pub const MAX_STRIPS: usize = 16;
 /// Band width of a chase when `chase_width_leds` is left out, LEDs.
 pub const DEFAULT_CHASE_WIDTH_LEDS: f64 = 4.0;
 
+/// Whether pictures may be read from outside the show file's folder.
+static PICTURES_FROM_ANYWHERE: std::sync::atomic::AtomicBool =
+    std::sync::atomic::AtomicBool::new(false);
+
+/// Lets shows read cue pictures from anywhere (`--allow-outside-pictures`):
+/// absolute paths and paths through `..` or symbolic links out of the show
+/// file's folder. Off by default, and meant for one person's command line:
+/// a program that reads shows sent by others (a server) never turns it on.
+pub fn allow_pictures_from_anywhere(on: bool) {
+    PICTURES_FROM_ANYWHERE.store(on, std::sync::atomic::Ordering::Relaxed);
+}
+
+/// Whether [`allow_pictures_from_anywhere`] is on.
+pub fn pictures_from_anywhere() -> bool {
+    PICTURES_FROM_ANYWHERE.load(std::sync::atomic::Ordering::Relaxed)
+}
+
 /// Reads and validates the show file at `path`. The reader's warnings (the
 /// show's `notes`) are printed to stderr here, so that every command shows
 /// them the same way.
 pub fn load(path: &Path) -> Result<Show, Diagnostics> {
     let name = path.display().to_string();
-    let meta = std::fs::metadata(path)
-        .map_err(|e| Diagnostic::error(format!("cannot read `{name}`: {e}")))?;
+    let cannot = |e: std::io::Error| {
+        Diagnostic::error(format!("cannot read {}: {}", escape(&name), io_phrase(&e)))
+    };
+    let meta = std::fs::metadata(path).map_err(cannot)?;
     if !meta.is_file() {
-        return Err(Diagnostic::error(format!("`{name}` is not a file")).into());
+        let what = if meta.is_dir() {
+            "it is a folder, not a show file"
+        } else {
+            "it is not a plain file"
+        };
+        return Err(Diagnostic::error(format!("cannot read {}: {what}", escape(&name))).into());
     }
     if meta.len() > MAX_FILE_BYTES {
         return Err(Diagnostic::error(format!(
-            "`{name}` is {} bytes; show files larger than {MAX_FILE_BYTES} bytes are refused",
+            "`{}` is {} bytes; show files larger than {MAX_FILE_BYTES} bytes are refused",
+            escape(&name),
             meta.len()
         ))
         .into());
     }
-    let bytes =
-        std::fs::read(path).map_err(|e| Diagnostic::error(format!("cannot read `{name}`: {e}")))?;
+    let bytes = std::fs::read(path).map_err(cannot)?;
     let show = parse_bytes(&name, bytes)?;
     for note in &show.notes {
         eprintln!("{note}");

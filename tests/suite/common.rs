@@ -77,9 +77,12 @@ pub fn decoder() -> &'static Path {
 }
 
 /// A show from TOML text; panics with the diagnostics if it is invalid.
+/// It is read as if from the test target's temporary folder, so that the
+/// pictures the tests write there are inside the show's folder.
 #[track_caller]
 pub fn show(text: &str) -> Show {
-    match glowscore::show::parse("test.toml", text.to_string()) {
+    let name = Path::new(env!("CARGO_TARGET_TMPDIR")).join("test.toml");
+    match glowscore::show::parse(&name.display().to_string(), text.to_string()) {
         Ok(s) => s,
         Err(d) => panic!("show did not parse:\n{d}"),
     }
