@@ -11,9 +11,11 @@
 //! Outside every span a prop rests (`motion::PropMotion::rest_point`).
 //!
 //! Colours: per prop, the LED bytes of every frame through
-//! [`Prepared::for_each_block`], coded as runs: a LEB128 count of frames,
-//! then the prop's `leds * 3` bytes (red, green, blue per LED) that those
-//! frames share; the runs follow each other to the last frame. The bytes
+//! [`Prepared::for_each_block`], coded as runs of frames that share their
+//! colours: a LEB128 number `2 * count + uniform`, then, when `uniform` is 1
+//! (every LED of those frames has one colour), that colour's 3 bytes, else
+//! the prop's `leds * 3` bytes (red, green, blue per LED); the runs follow
+//! each other to the last frame. The bytes
 //! are those of the tables (linear light); the page shows them through
 //! [`display_lut`] (IEC 61966-2-1 encoding).
 
@@ -318,7 +320,8 @@ pub fn colour_runs(prepared: &Prepared) -> Result<Vec<Vec<u8>>, DataError> {
 /// Appends one run; returns the bytes written.
 fn push_run(out: &mut Vec<u8>, colours: &[[u8; 3]], count: u64) -> usize {
     let before = out.len();
-    let mut n = count;
+    let uniform = colours.iter().all(|c| *c == colours[0]);
+    let mut n = 2 * count + u64::from(uniform);
     loop {
         let byte = (n & 0x7f) as u8;
         n >>= 7;
@@ -327,6 +330,10 @@ fn push_run(out: &mut Vec<u8>, colours: &[[u8; 3]], count: u64) -> usize {
             break;
         }
         out.push(byte | 0x80);
+    }
+    if uniform {
+        out.extend_from_slice(colours.first().unwrap_or(&[0; 3]));
+        return out.len() - before;
     }
     for c in colours {
         out.extend_from_slice(c);
@@ -354,10 +361,17 @@ pub fn decode_runs(data: &[u8], leds: usize) -> Option<Vec<Vec<[u8; 3]>>> {
                 return None;
             }
         }
-        let bytes = data.get(i..i + 3 * leds)?;
-        i += 3 * leds;
-        let colours: Vec<[u8; 3]> = bytes.chunks(3).map(|c| [c[0], c[1], c[2]]).collect();
-        for _ in 0..n {
+        let (count, uniform) = (n / 2, n % 2 == 1);
+        let colours: Vec<[u8; 3]> = if uniform {
+            let c = data.get(i..i + 3)?;
+            i += 3;
+            vec![[c[0], c[1], c[2]]; leds]
+        } else {
+            let bytes = data.get(i..i + 3 * leds)?;
+            i += 3 * leds;
+            bytes.chunks(3).map(|c| [c[0], c[1], c[2]]).collect()
+        };
+        for _ in 0..count {
             frames.push(colours.clone());
         }
     }
@@ -413,12 +427,15 @@ mod tests {
         let mut out = Vec::new();
         push_run(&mut out, &[[1, 2, 3], [4, 5, 6]], 300);
         push_run(&mut out, &[[0, 0, 0], [9, 9, 9]], 1);
+        push_run(&mut out, &[[7, 7, 7], [7, 7, 7]], 2);
         let frames = decode_runs(&out, 2).unwrap();
-        assert_eq!(frames.len(), 301);
+        assert_eq!(frames.len(), 303);
         assert_eq!(frames[299], vec![[1, 2, 3], [4, 5, 6]]);
         assert_eq!(frames[300], vec![[0, 0, 0], [9, 9, 9]]);
-        // 300 needs two LEB128 bytes.
-        assert_eq!(out[..2], [0xac, 0x02]);
+        assert_eq!(frames[302], vec![[7, 7, 7], [7, 7, 7]]);
+        // 2 * 300 = 600 needs two LEB128 bytes; a uniform run carries one colour.
+        assert_eq!(out[..2], [0xd8, 0x04]);
+        assert_eq!(out[out.len() - 4..], [2 * 2 + 1, 7, 7, 7]);
     }
 
     #[test]

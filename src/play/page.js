@@ -33,25 +33,58 @@
     return out;
   }
 
-  // Runs: a LEB128 frame count, then leds * 3 bytes (see data.rs).
-  function decodeRuns(bytes, leds) {
+  // Runs: a LEB128 number 2 * count + uniform, then 3 bytes (uniform: one
+  // colour for every LED) or leds * 3 bytes (see data.rs). Uniform runs are
+  // spread out to leds * 3 bytes here, so that frames are read one way.
+  function decodeRuns(raw, leds) {
     const starts = [];
     const offsets = [];
     let frame = 0;
     let i = 0;
-    while (i < bytes.length) {
+    // First pass: the size of the spread-out bytes.
+    let size = 0;
+    while (i < raw.length) {
       let n = 0;
       let mul = 1;
       for (;;) {
-        const b = bytes[i++];
+        const b = raw[i++];
         n += (b & 0x7f) * mul;
         mul *= 128;
         if ((b & 0x80) === 0) break;
       }
+      const uniform = n % 2 === 1;
+      i += uniform ? 3 : leds * 3;
+      size += leds * 3;
+    }
+    const bytes = new Uint8Array(size);
+    let o = 0;
+    i = 0;
+    while (i < raw.length) {
+      let n = 0;
+      let mul = 1;
+      for (;;) {
+        const b = raw[i++];
+        n += (b & 0x7f) * mul;
+        mul *= 128;
+        if ((b & 0x80) === 0) break;
+      }
+      const uniform = n % 2 === 1;
+      const count = (n - (uniform ? 1 : 0)) / 2;
       starts.push(frame);
-      offsets.push(i);
-      frame += n;
-      i += leds * 3;
+      offsets.push(o);
+      frame += count;
+      if (uniform) {
+        for (let l = 0; l < leds; l++) {
+          bytes[o + 3 * l] = raw[i];
+          bytes[o + 3 * l + 1] = raw[i + 1];
+          bytes[o + 3 * l + 2] = raw[i + 2];
+        }
+        i += 3;
+      } else {
+        bytes.set(raw.subarray(i, i + leds * 3), o);
+        i += leds * 3;
+      }
+      o += leds * 3;
     }
     return { starts: Float64Array.from(starts), offsets: Uint32Array.from(offsets), bytes: bytes, frames: frame };
   }
