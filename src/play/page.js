@@ -408,6 +408,9 @@
   const TRAIL_SAMPLES = 48;
   const TRAIL_BANDS = 8;
   const DOT_RADIUS = 3; // px: a dot 6 px across
+  // A strip's trail is drawn from at most this many of its LEDs, evenly
+  // spread (neighbouring LEDs' trails overlap into one band anyway).
+  const TRAIL_LEDS = 16;
 
   function draw(t) {
     const view = state.view;
@@ -456,8 +459,8 @@
     };
     // The trail: bands of samples, older ones fainter, in their frames' colours.
     if (samples > 0) {
-      ctx.lineCap = "round";
-      ctx.lineJoin = "round";
+      ctx.lineCap = "butt";
+      ctx.lineJoin = "bevel";
       ctx.lineWidth = 2.5;
       const bands = Math.min(TRAIL_BANDS, samples);
       for (let band = bands - 1; band >= 0; band--) {
@@ -470,7 +473,8 @@
         for (const p of S.props) {
           const off = colourOffset(p, km);
           const bytes = p.runs.bytes;
-          for (let l = 0; l < p.nLeds; l++) {
+          const stride = Math.max(1, Math.ceil(p.nLeds / TRAIL_LEDS));
+          for (let l = 0; l < p.nLeds; l += stride) {
             const r = lut[bytes[off + 3 * l]];
             const g = lut[bytes[off + 3 * l + 1]];
             const b = lut[bytes[off + 3 * l + 2]];
@@ -544,20 +548,29 @@
       }
       base += 3 * p.nLeds;
     }
+    // One path per colour (a strip's LEDs mostly share one): its glows
+    // as one faint fill, then its dots.
+    const byColour = new Map();
+    for (let i = 0; i < dots.length; i += 3) {
+      let list = byColour.get(dots[i + 2]);
+      if (!list) byColour.set(dots[i + 2], (list = []));
+      list.push(dots[i], dots[i + 1]);
+    }
+    const fillDots = (radius) => {
+      for (const [key, list] of byColour) {
+        ctx.fillStyle = key;
+        ctx.beginPath();
+        for (let i = 0; i < list.length; i += 2) {
+          ctx.moveTo(list[i] + radius, list[i + 1]);
+          ctx.arc(list[i], list[i + 1], radius, 0, TAU);
+        }
+        ctx.fill();
+      }
+    };
     ctx.globalAlpha = 0.22;
-    for (let i = 0; i < dots.length; i += 3) {
-      ctx.fillStyle = dots[i + 2];
-      ctx.beginPath();
-      ctx.arc(dots[i], dots[i + 1], 3 * DOT_RADIUS, 0, TAU);
-      ctx.fill();
-    }
+    fillDots(3 * DOT_RADIUS);
     ctx.globalAlpha = 1;
-    for (let i = 0; i < dots.length; i += 3) {
-      ctx.fillStyle = dots[i + 2];
-      ctx.beginPath();
-      ctx.arc(dots[i], dots[i + 1], DOT_RADIUS, 0, TAU);
-      ctx.fill();
-    }
+    fillDots(DOT_RADIUS);
     updateReadout(t, k, beatNow);
   }
 
@@ -642,11 +655,35 @@
     tctx.setTransform(tl.width / TW, 0, 0, tl.height / TH, 0, 0);
   }
 
+  // The timeline's still parts are drawn once into a layer of their own
+  // (again when the window, the show or the loop changes); each frame copies
+  // it and draws the playhead.
+  let layer = null;
+  let layerKey = "";
   function drawTimeline(t) {
     if (bare) return;
+    const key = TW + "x" + TH + ":" + state.loop + ":" + state.loopFrom + ":" + state.loopTo;
+    if (!layer || layerKey !== key || layer.show !== S) {
+      layer = document.createElement("canvas");
+      layer.width = tl.width;
+      layer.height = tl.height;
+      layer.show = S;
+      layerKey = key;
+      const lc = layer.getContext("2d");
+      lc.setTransform(tl.width / TW, 0, 0, tl.height / TH, 0, 0);
+      drawTimelineStill(lc);
+    }
+    tctx.setTransform(1, 0, 0, 1, 0, 0);
+    tctx.clearRect(0, 0, tl.width, tl.height);
+    tctx.drawImage(layer, 0, 0);
+    tctx.setTransform(tl.width / TW, 0, 0, tl.height / TH, 0, 0);
+    tctx.fillStyle = "#e8ecf2";
+    tctx.fillRect((t / Math.max(S.end_s, 1e-6)) * TW - 1, 0, 2, TH);
+  }
+
+  function drawTimelineStill(tctx) {
     const end = Math.max(S.end_s, 1e-6);
     const X = (tt) => (tt / end) * TW;
-    tctx.clearRect(0, 0, TW, TH);
     // Sections: alternating quiet bands.
     S.sections.forEach((s, i) => {
       tctx.fillStyle = i % 2 ? "#151a23" : "#11151c";
@@ -685,8 +722,6 @@
         tctx.fillRect(x, y - 2, 1, 4);
       }
     });
-    tctx.fillStyle = "#e8ecf2";
-    tctx.fillRect(X(t) - 1, 0, 2, TH);
   }
 
   function scrubTo(ev) {
