@@ -382,3 +382,31 @@ fn the_pages_colours_are_the_prepared_frames() {
         }
     }
 }
+
+#[test]
+fn a_page_with_a_song_embeds_it_and_opens_without_error() {
+    let show = repo("shows/moth-garden.toml");
+    let page = tmp("song.html");
+    let st = bin()
+        .args(["play"])
+        .arg(&show)
+        .arg("--song")
+        .arg(repo("shows/tide-lamp-groove.wav"))
+        .arg("--out")
+        .arg(&page)
+        .output()
+        .unwrap();
+    assert!(
+        st.status.success(),
+        "{}",
+        String::from_utf8_lossy(&st.stderr)
+    );
+    let html = std::fs::read_to_string(&page).unwrap();
+    assert!(
+        html.contains("id=\"song\" data-mime=\"audio/wav\">UklGR"),
+        "a base64 RIFF file"
+    );
+    let d = dom(&page, "t=3");
+    assert_eq!(body_attr(&d, "data-error"), None, "{d}");
+    assert_eq!(body_attr(&d, "data-frame").as_deref(), Some("1500"));
+}
