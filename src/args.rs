@@ -120,6 +120,28 @@ pub enum Command {
         #[arg(long, value_name = "LO-HI")]
         bpm_range: Option<String>,
     },
+    /// Write the play page (one HTML file that shows the show moving), or serve it and rebuild on every save.
+    Play {
+        /// The show file (TOML).
+        show: PathBuf,
+        /// The page to write (replaced atomically).
+        #[arg(
+            long,
+            value_name = "PAGE.html",
+            required_unless_present = "watch",
+            conflicts_with = "watch"
+        )]
+        out: Option<PathBuf>,
+        /// Serve the page on 127.0.0.1 and push every saved change of the show to it.
+        #[arg(long)]
+        watch: bool,
+        /// The port to serve on (default: one the system picks).
+        #[arg(long, value_name = "N", requires = "watch", default_value_t = 0)]
+        port: u16,
+        /// A song to embed and play as the clock.
+        #[arg(long, value_name = "SONG")]
+        song: Option<PathBuf>,
+    },
     /// Write a practice WAV: the song, a click on every beat and a tone at each colour change of a prop.
     Rehearse {
         /// The show file (TOML).

@@ -119,6 +119,16 @@ fn dispatch(command: Command) -> Result<(), Failure> {
             };
             commands::tempo::run(&song, json, &opts, stdout)
         }
+        Command::Play {
+            show,
+            out,
+            watch,
+            port,
+            song,
+        } => match out {
+            Some(out) if !watch => commands::play::run(&show, &out, song.as_deref(), stdout),
+            _ => commands::play::watch_loop(&show, port, song.as_deref(), stdout),
+        },
         Command::Rehearse {
             show,
             out,

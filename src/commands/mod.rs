@@ -9,6 +9,7 @@ pub mod compile;
 pub mod events;
 pub mod new;
 pub mod patterns;
+pub mod play;
 pub mod preview;
 pub mod rehearse;
 pub mod tempo;
@@ -39,7 +40,10 @@ pub enum Failure {
     /// The preview could not be rendered or written.
     #[error("error: {0}\n")]
     Preview(#[from] PreviewError),
-    /// A song could not be read or analysed.
+    /// The play page could not be made or written.
+    #[error("error: {0}\n")]
+    Play(#[from] crate::play::PlayError),
+    /// A song could not be read or analysed, or a practice track written.
     #[error("error: {0}\n")]
     Music(#[from] crate::music::MusicError),
     /// A practice track could not be made or written.

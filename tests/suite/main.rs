@@ -25,6 +25,8 @@ mod music_show;
 mod parser_fuzz;
 mod picture;
 mod pipeline;
+mod play;
+mod play_watch;
 mod preview_output;
 mod preview_paint;
 mod preview_physics;
