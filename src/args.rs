@@ -15,6 +15,10 @@ use glowscore::preview::{self, Pinhole, PreviewOptions, Shutter, View};
 pub struct Cli {
     #[command(subcommand)]
     pub command: Command,
+    /// Let cue pictures be read from outside the show file's folder
+    /// (absolute paths, `..`, symbolic links out of it).
+    #[arg(long, global = true)]
+    pub allow_outside_pictures: bool,
 }
 
 /// The subcommands.
@@ -36,6 +40,12 @@ pub enum Command {
         /// Skip the preview pictures.
         #[arg(long)]
         no_previews: bool,
+        /// Leave out a text form: `csv` or `header` (may be given twice).
+        #[arg(long, value_name = "FORM", value_parser = ["csv", "header"])]
+        skip: Vec<String>,
+        /// Print nothing but errors: no progress, no summary.
+        #[arg(long, short)]
+        quiet: bool,
     },
     /// Print every event of the show (tips, inner points, stalls, angles, beats, bars), sorted by time.
     Events {
@@ -68,7 +78,33 @@ pub enum Command {
         #[arg(long, default_value_t = 10.0, allow_hyphen_values = true)]
         tolerance_mm: f64,
     },
-    /// Render a long-exposure picture of the show, or of some bars of it, as a PNG.
+    /// List the trade figures each prop can play (petals, stalls, reach, peak tension at the show's tempo), each with its pattern table.
+    Patterns {
+        /// The show file (TOML).
+        show: PathBuf,
+        /// Only this prop.
+        #[arg(long, value_name = "NAME")]
+        prop: Option<String>,
+        /// Only figures with N petals.
+        #[arg(long, value_name = "N")]
+        petals: Option<u32>,
+        /// Only figures whose head stays within M metres of the anchor.
+        #[arg(long, value_name = "M", allow_hyphen_values = true)]
+        max_reach: Option<f64>,
+        /// Only figures whose head stops (stalls).
+        #[arg(long)]
+        stall: bool,
+        /// The plane: wall, wheel or floor.
+        #[arg(long, value_enum, default_value_t = PlaneArg::Wall)]
+        plane: PlaneArg,
+        /// Beats per hand revolution (default: the show's beats per bar).
+        #[arg(long, value_name = "B")]
+        beats: Option<f64>,
+        /// Hand radius of the figures that are not stalls, metres.
+        #[arg(long, value_name = "R", default_value_t = glowscore::commands::patterns::DEFAULT_HAND_RADIUS_M)]
+        hand_radius: f64,
+    },
+    /// Render a long-exposure picture of the show, or of some bars of it, as a PNG or JPEG.
     Preview(Box<PreviewArgs>),
     /// Find a song's tempo, beats, downbeats and tempo changes (WAV, FLAC, Ogg Vorbis, MP3).
     Tempo {
@@ -84,6 +120,28 @@ pub enum Command {
         #[arg(long, value_name = "LO-HI")]
         bpm_range: Option<String>,
     },
+    /// Write the play page (one HTML file that shows the show moving), or serve it and rebuild on every save.
+    Play {
+        /// The show file (TOML).
+        show: PathBuf,
+        /// The page to write (replaced atomically).
+        #[arg(
+            long,
+            value_name = "PAGE.html",
+            required_unless_present = "watch",
+            conflicts_with = "watch"
+        )]
+        out: Option<PathBuf>,
+        /// Serve the page on 127.0.0.1 and push every saved change of the show to it.
+        #[arg(long)]
+        watch: bool,
+        /// The port to serve on (default: one the system picks).
+        #[arg(long, value_name = "N", requires = "watch", default_value_t = 0)]
+        port: u16,
+        /// A song to embed and play as the clock.
+        #[arg(long, value_name = "SONG")]
+        song: Option<PathBuf>,
+    },
     /// Write a practice WAV: the song, a click on every beat and a tone at each colour change of a prop.
     Rehearse {
         /// The show file (TOML).
@@ -98,6 +156,37 @@ pub enum Command {
         #[arg(long, value_name = "SONG")]
         song: Option<PathBuf>,
     },
+    /// Write a commented starter show (two poi, eight bars) to build on.
+    New {
+        /// The show file to write (`.toml` is added if it has no extension); never replaced.
+        name: PathBuf,
+    },
+    /// Print a completion script for a shell (bash, zsh, fish, elvish, powershell).
+    Completions {
+        /// The shell.
+        shell: clap_complete::Shell,
+    },
+}
+
+/// A plane of motion.
+#[derive(Clone, Copy, clap::ValueEnum)]
+pub enum PlaneArg {
+    /// Facing the audience.
+    Wall,
+    /// Side-on.
+    Wheel,
+    /// Horizontal.
+    Floor,
+}
+
+impl From<PlaneArg> for glowscore::model::Plane {
+    fn from(p: PlaneArg) -> Self {
+        match p {
+            PlaneArg::Wall => glowscore::model::Plane::Wall,
+            PlaneArg::Wheel => glowscore::model::Plane::Wheel,
+            PlaneArg::Floor => glowscore::model::Plane::Floor,
+        }
+    }
 }
 
 /// The binary form embedded in the C header.
@@ -123,7 +212,8 @@ impl From<HeaderForm> for TableForm {
 pub struct PreviewArgs {
     /// The show file (TOML).
     pub show: PathBuf,
-    /// The PNG to write (replaced atomically).
+    /// The picture to write: FILE.png, or FILE.jpg / FILE.jpeg for a JPEG
+    /// (replaced atomically; its folder is made if missing).
     #[arg(long, value_name = "FILE.png")]
     pub out: PathBuf,
     /// Bars the shutter is open for, inclusive (default: the whole show).

@@ -27,6 +27,11 @@ use crate::preview::{self, PreviewOptions};
 pub const MAX_FRAMES: u64 = 100_000_000;
 /// Most bytes all full binary tables of a show may take together (2 GiB).
 pub const MAX_TABLE_BYTES: u64 = 2 << 30;
+/// Most bytes everything a compile writes may take together (4 GiB), as
+/// counted before writing by [`output_bytes`].
+pub const MAX_OUTPUT_BYTES: u64 = 4 << 30;
+/// The formats `--skip` may leave out: the text forms.
+pub const SKIPPABLE: [&str; 2] = ["csv", "header"];
 
 /// How to compile.
 #[derive(Clone, Debug)]
@@ -41,6 +46,8 @@ pub struct CompileOptions {
     pub previews: bool,
     /// How to render them.
     pub preview: PreviewOptions,
+    /// Keys of the text forms not to write: `csv`, `header`.
+    pub skip: Vec<String>,
 }
 
 impl CompileOptions {
@@ -53,6 +60,7 @@ impl CompileOptions {
             header_form: TableForm::Compact,
             previews: true,
             preview: PreviewOptions::default(),
+            skip: Vec::new(),
         }
     }
 }
@@ -79,6 +87,23 @@ pub struct CompileSummary {
     pub warnings: usize,
     /// Props dimmed by `brightness_limit`, with the scale applied.
     pub dimmed: Vec<(String, f64)>,
+    /// The song the tables belong to (a show with `music`).
+    pub music: Option<SongRecord>,
+}
+
+/// Which song a compile's tables belong to: `compile.music` in
+/// `report.json`. The song itself is not copied.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct SongRecord {
+    /// The song's file name (without its folder).
+    pub file: String,
+    /// Its size, bytes.
+    pub bytes: u64,
+    /// Length of its audio, seconds.
+    #[serde(serialize_with = "crate::check::report::r9")]
+    pub duration_s: f64,
+    /// CRC-32 (IEEE 802.3) of the file's bytes, eight lower-case hex digits.
+    pub crc32: String,
 }
 
 /// Why a compile failed.
@@ -86,7 +111,7 @@ pub struct CompileSummary {
 pub enum CompileError {
     /// The tables would be larger than the limits.
     #[error(
-        "the tables would be too large: {frames} frames ({seconds:.1} s at {rate} frames/s) x {leds} LEDs in all = {bytes} bytes; the limits are {MAX_FRAMES} frames and {MAX_TABLE_BYTES} bytes (lower `show.frame_rate`, shorten the show or use fewer LEDs)"
+        "the tables would be too large: {frames} frames ({seconds:.1} s at {rate} frames/s) x {leds} LEDs in all = {bytes} bytes; the limits are {MAX_FRAMES} frames and {MAX_TABLE_BYTES} bytes; they come from {drivers} (lower `show.frame_rate`, shorten the show or use fewer LEDs)"
     )]
     TooLarge {
         /// Frames in every table.
@@ -99,12 +124,29 @@ pub enum CompileError {
         leds: u32,
         /// Bytes of every full table together.
         bytes: u64,
+        /// The keys that set the frames and LEDs, located.
+        drivers: String,
+    },
+    /// Everything compile would write is larger than [`MAX_OUTPUT_BYTES`].
+    #[error(
+        "the outputs would take up to {} in all ({parts}), more than the limit of {}; they come from {drivers}: {advice}",
+        size(*total), size(MAX_OUTPUT_BYTES)
+    )]
+    TooMuchOutput {
+        /// Bytes of every output together, at most.
+        total: u64,
+        /// Each kind of output's share.
+        parts: String,
+        /// The keys that set the number of frames and LEDs, located.
+        drivers: String,
+        /// The options (or show changes) that bring it under the limit.
+        advice: String,
     },
     /// The output folder could not be locked, prepared or updated.
     #[error("{0}")]
     Folder(#[from] crate::folder::FolderError),
     /// A file or folder could not be made, written or moved into place.
-    #[error("cannot write `{}`: {source}", path.display())]
+    #[error("cannot write `{}`: {}", path.display(), crate::diag::io_phrase(source))]
     Io {
         /// The file or folder.
         path: PathBuf,
@@ -152,9 +194,127 @@ pub fn check_limits(show: &Show) -> Result<u32, CompileError> {
             rate: show.frame_rate_hz,
             leds,
             bytes,
+            drivers: show.frame_cost_drivers(),
         });
     }
     Ok(frames as u32)
+}
+
+/// Where a compile has got to, for a progress display.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Step {
+    /// Writing the tables: `done` of `frames` frames written.
+    Tables {
+        /// Frames written so far (of every prop).
+        done: u64,
+        /// Frames in the show.
+        frames: u64,
+    },
+    /// Rendering the previews: the whole show and one per section.
+    Previews {
+        /// Pictures to render.
+        count: usize,
+    },
+}
+
+/// Bytes in words: `812 MB`, `8.80 GB` (decimal units).
+fn size(bytes: u64) -> String {
+    let b = bytes as f64;
+    if b >= 1e9 {
+        format!("{:.2} GB", b / 1e9)
+    } else if b >= 1e6 {
+        format!("{:.0} MB", b / 1e6)
+    } else {
+        format!("{bytes} B")
+    }
+}
+
+/// The most bytes each kind of output of a compile with `opts` can take,
+/// counted before anything is written: (`csv`, `full`, `compact`,
+/// `header`, `previews`, `report`), every prop together. Each figure is an
+/// upper bound: a CSV row with every value three digits long, a compact
+/// table no larger than the full one (its encoder stores a run only where
+/// that saves bytes), the C header's hex text, previews as PNGs that did
+/// not compress.
+pub fn output_bytes(show: &Show, opts: &CompileOptions) -> Vec<(&'static str, u64)> {
+    let frames = show.frame_count();
+    let digits = |n: u64| n.max(1).ilog10() as u64 + 1;
+    let wanted = |k: &str| !opts.skip.iter().any(|s| s == k);
+    let (mut csv, mut full, mut header) = (0u64, 0u64, 0u64);
+    // The time column: whole seconds, a point and six decimals.
+    let time_text = digits(show.end_s().ceil() as u64) + 7;
+    for p in &show.props {
+        let leds = u64::from(p.leds);
+        let head: u64 = 12 + (0..leds).map(|i| 6 + 3 * digits(i)).sum::<u64>() + 1;
+        let row = digits(frames) + 1 + time_text + 12 * leds + 1;
+        csv = csv.saturating_add(head.saturating_add(frames.saturating_mul(row)));
+        let table = frames.saturating_mul(leds * p.wire_order.bytes_per_led() as u64)
+            + (crate::output::HEADER_LEN + crate::output::TRAILER_LEN) as u64;
+        full = full.saturating_add(table);
+        // 76 characters a line of twelve bytes, and the declarations.
+        header = header.saturating_add(table.div_ceil(12).saturating_mul(76) + 4096);
+    }
+    let previews = if opts.previews {
+        let (w, h) = opts.preview.size.unwrap_or(preview::DEFAULT_SIZE);
+        let png = u64::from(h) * (3 * u64::from(w) + 1);
+        // zlib's stored blocks and the PNG chunks: well under 1 % and 4 kB.
+        let one = png + png / 100 + 4096;
+        one.saturating_mul(show.sections.len() as u64 + 1)
+    } else {
+        0
+    };
+    let report = 1 << 20;
+    vec![
+        ("csv", if wanted("csv") { csv } else { 0 }),
+        ("full", full),
+        ("compact", full),
+        ("header", if wanted("header") { header } else { 0 }),
+        ("previews", previews),
+        ("report", report),
+    ]
+}
+
+/// Refuses a compile whose outputs could take more than
+/// [`MAX_OUTPUT_BYTES`], with each output's share, what drives it and the
+/// options that avoid it.
+pub fn check_output_size(show: &Show, opts: &CompileOptions) -> Result<(), CompileError> {
+    let parts = output_bytes(show, opts);
+    let total = parts.iter().fold(0u64, |a, (_, b)| a.saturating_add(*b));
+    if total <= MAX_OUTPUT_BYTES {
+        return Ok(());
+    }
+    let share = |k: &str| parts.iter().find(|p| p.0 == k).map_or(0, |p| p.1);
+    let mut advice = Vec::new();
+    let mut left = total;
+    // The largest saving first, until the rest fits.
+    let mut options = [
+        ("previews", "--no-previews"),
+        ("csv", "--skip csv"),
+        ("header", "--skip header"),
+    ];
+    options.sort_by_key(|(key, _)| std::cmp::Reverse(share(key)));
+    for (key, option) in options {
+        if share(key) > 0 && left > MAX_OUTPUT_BYTES {
+            advice.push(format!("{option} (saves up to {})", size(share(key))));
+            left -= share(key);
+        }
+    }
+    let advice = if left <= MAX_OUTPUT_BYTES {
+        format!("give {}", advice.join(" and "))
+    } else {
+        "lower `show.frame_rate`, shorten the show or use fewer LEDs".to_string()
+    };
+    let shown: Vec<String> = parts
+        .iter()
+        .filter(|p| p.1 > 0 && p.0 != "report")
+        .map(|(k, b)| format!("{k} {}", size(*b)))
+        .collect();
+    Err(CompileError::TooMuchOutput {
+        total,
+        parts: shown.join(", "),
+        drivers: show.frame_cost_drivers(),
+        advice,
+    })
 }
 
 /// Compiles the prepared show into `opts.out_dir`.
@@ -162,15 +322,25 @@ pub fn compile(
     prepared: &Prepared,
     opts: &CompileOptions,
 ) -> Result<(CompileSummary, CheckReport), CompileError> {
+    compile_with_progress(prepared, opts, &|_| {})
+}
+
+/// [`compile`], telling `progress` where it has got to as it goes.
+pub fn compile_with_progress(
+    prepared: &Prepared,
+    opts: &CompileOptions,
+    progress: &(dyn Fn(Step) + Sync),
+) -> Result<(CompileSummary, CheckReport), CompileError> {
     let show = prepared.show();
     check_limits(show)?;
+    check_output_size(show, opts)?;
     let settings = CheckSettings {
         tolerance_mm: opts.tolerance_mm,
         ..CheckSettings::default()
     };
     crate::check::within_budget(prepared, &settings)?;
     let folder = Folder::open(&opts.out_dir)?;
-    let (summary, report) = write_all(prepared, &settings, opts, folder.staging())?;
+    let (summary, report) = write_all(prepared, &settings, opts, folder.staging(), progress)?;
     let mut names: Vec<String> = summary
         .tables
         .iter()
@@ -189,20 +359,29 @@ fn write_all(
     settings: &CheckSettings,
     opts: &CompileOptions,
     dir: &Path,
+    progress: &(dyn Fn(Step) + Sync),
 ) -> Result<(CompileSummary, CheckReport), CompileError> {
     let (show, lights) = (prepared.show(), prepared.lights());
     // Within u32: `check_limits` has passed.
     let frames = show.frame_count() as u32;
     // The checks of the motion alone run while the tables are written.
-    let (written, motion) = rayon::join(
-        || write_tables(prepared, frames, opts.header_form, dir),
+    let (written, (motion, music)) = rayon::join(
+        || write_tables(prepared, frames, opts, dir, progress),
         // `compile` checked the budget before anything was written.
-        || crate::check::motion_figures(prepared, settings),
+        || {
+            rayon::join(
+                || crate::check::motion_figures(prepared, settings),
+                || crate::check::music::scan(prepared),
+            )
+        },
     );
     let (tables, figures) = written?;
     let motion = motion?;
-    let report = crate::check::report_of(prepared, motion, figures, settings);
+    let report = crate::check::report_of(prepared, motion, figures, music?, settings);
     let previews = if opts.previews {
+        progress(Step::Previews {
+            count: show.sections.len() + 1,
+        });
         preview::write_previews(prepared, dir, &opts.preview)?
             .iter()
             .filter_map(|p| p.file_name().map(|n| n.to_string_lossy().into_owned()))
@@ -230,6 +409,13 @@ fn write_all(
                 Some((show.props[i].name.clone(), k))
             })
             .collect(),
+        // Heard already: the check's music scan succeeded.
+        music: prepared.song().and_then(Result::ok).map(|s| SongRecord {
+            file: s.file_name.clone(),
+            bytes: s.bytes,
+            duration_s: s.duration_s,
+            crc32: format!("{:08x}", s.crc32),
+        }),
     };
     write_report(&dir.join("report.json"), &summary, &report)?;
     Ok((summary, report))
@@ -256,6 +442,9 @@ struct CompileSection<'a> {
     /// Per dimmed prop, the scale `brightness_limit` applied.
     #[serde(serialize_with = "pairs_as_map")]
     brightness_scale_applied: &'a [(String, f64)],
+    /// The song the tables belong to (left out without `music`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    music: Option<&'a SongRecord>,
 }
 
 /// Serialises `(name, value)` pairs as a JSON object, in their order.
@@ -278,10 +467,12 @@ fn write_report(
         compile: CompileSection {
             frame_rate_hz: summary.frame_rate_hz,
             frames: summary.frames,
-            duration_s: summary.duration_s,
+            // Rounded as the check's `duration_s` is: the same figure.
+            duration_s: crate::num::round_to(summary.duration_s, 9),
             tables: &summary.tables,
             previews: &summary.previews,
             brightness_scale_applied: &summary.dimmed,
+            music: summary.music.as_ref(),
         },
     };
     let mut f = BufWriter::new(File::create(path).map_err(&io)?);
@@ -295,8 +486,9 @@ fn write_report(
 fn write_tables(
     prepared: &Prepared,
     frames: u32,
-    header_form: TableForm,
+    opts: &CompileOptions,
     dir: &Path,
+    progress: &(dyn Fn(Step) + Sync),
 ) -> Result<(Vec<(String, PropTables)>, FrameFigures), CompileError> {
     let (show, lights) = (prepared.show(), prepared.lights());
     let spec = |p: &crate::model::Prop| TableSpec {
@@ -316,6 +508,7 @@ fn write_tables(
             })
         })
         .collect::<Result<_, _>>()?;
+    let (header_form, skip) = (opts.header_form, opts.skip.as_slice());
     let mut writers: Vec<PropFiles> = show
         .props
         .iter()
@@ -326,12 +519,17 @@ fn write_tables(
                 prop: &p.name,
                 header_form,
                 program: &programs[i],
+                skip,
             };
             PropFiles::open(dir, i, &opening)
         })
         .collect::<Result<_, _>>()?;
     let mut tally = LightTally::new(show);
-    prepared.for_each_block(|_, n, blocks| {
+    prepared.for_each_block(|k0, n, blocks| {
+        progress(Step::Tables {
+            done: k0,
+            frames: u64::from(frames),
+        });
         let (written, ()) = rayon::join(
             || {
                 writers
@@ -347,6 +545,10 @@ fn write_tables(
         );
         written
     })?;
+    progress(Step::Tables {
+        done: u64::from(frames),
+        frames: u64::from(frames),
+    });
     let tables: Vec<(String, PropTables)> = writers
         .into_iter()
         .zip(&show.props)
@@ -402,6 +604,7 @@ mod tests {
                     prop: &p.name,
                     header_form: TableForm::Full,
                     program: &[],
+                    skip: &[],
                 };
                 PropFiles::open(&dir, i, &opening).unwrap()
             })

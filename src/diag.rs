@@ -142,8 +142,13 @@ impl Diagnostic {
     }
 }
 
+/// Every piece of a diagnostic is escaped as it is printed (messages and
+/// help keep their line breaks): a name, key or line of the show cannot
+/// send control sequences to the terminal.
 impl fmt::Display for Diagnostic {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let message = escape_text(&self.message);
+        let key = self.key.as_deref().map(escape);
         let label = match self.severity {
             Severity::Error => "error",
             Severity::Warning => "warning",
@@ -151,12 +156,14 @@ impl fmt::Display for Diagnostic {
         match (&self.source, &self.span) {
             (Some(source), Some(span)) => {
                 let (line, col) = source.line_col(span.start);
-                write!(f, "{}:{line}:{col}: {label}", source.name)?;
-                if let Some(key) = &self.key {
+                write!(f, "{}:{line}:{col}: {label}", escape(&source.name))?;
+                if let Some(key) = &key {
                     write!(f, " in `{key}`")?;
                 }
-                writeln!(f, ": {}", self.message)?;
-                let text = source.line_text(line);
+                writeln!(f, ": {message}")?;
+                // A tab becomes one space, so that the caret, placed by
+                // characters, stays under the text.
+                let text = escape(&source.line_text(line).replace('\t', " "));
                 let width = line.to_string().len();
                 writeln!(f, "{:width$} |", "")?;
                 writeln!(f, "{line} | {text}")?;
@@ -175,22 +182,22 @@ impl fmt::Display for Diagnostic {
                 )?;
             }
             (Some(source), None) => {
-                write!(f, "{}: {label}", source.name)?;
-                if let Some(key) = &self.key {
+                write!(f, "{}: {label}", escape(&source.name))?;
+                if let Some(key) = &key {
                     write!(f, " in `{key}`")?;
                 }
-                write!(f, ": {}", self.message)?;
+                write!(f, ": {message}")?;
             }
             _ => {
                 write!(f, "{label}")?;
-                if let Some(key) = &self.key {
+                if let Some(key) = &key {
                     write!(f, " in `{key}`")?;
                 }
-                write!(f, ": {}", self.message)?;
+                write!(f, ": {message}")?;
             }
         }
         if let Some(help) = &self.help {
-            write!(f, "\n  = help: {help}")?;
+            write!(f, "\n  = help: {}", escape_text(help))?;
         }
         Ok(())
     }
@@ -214,6 +221,12 @@ impl Diagnostics {
     /// True when there are none.
     pub fn is_empty(&self) -> bool {
         self.0.is_empty()
+    }
+
+    /// True when any points into a file that was read: the file's text is
+    /// at fault, not the file's absence.
+    pub fn any_located(&self) -> bool {
+        self.0.iter().any(|d| d.source.is_some())
     }
 }
 
@@ -305,13 +318,42 @@ pub fn did_you_mean<'a>(
 pub fn escape(text: &str) -> String {
     let mut out = String::with_capacity(text.len());
     for c in text.chars() {
-        if c.is_control() {
+        // Control characters, and the bidirectional overrides that can make
+        // a line read other than it is.
+        if c.is_control() || matches!(c, '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}') {
             out.push_str(&format!("\\u{{{:x}}}", u32::from(c)));
         } else {
             out.push(c);
         }
     }
     out
+}
+
+/// The cause of a failed read or write in a few plain words: "no such
+/// file", "permission denied", "no space left on the device", else the
+/// system's own message (without its error number).
+pub fn io_phrase(e: &std::io::Error) -> String {
+    use std::io::ErrorKind as K;
+    match e.kind() {
+        K::NotFound => "no such file".into(),
+        K::PermissionDenied => "permission denied".into(),
+        K::StorageFull => "no space left on the device".into(),
+        K::IsADirectory => "it is a folder, not a file".into(),
+        K::ReadOnlyFilesystem => "the file system is read-only".into(),
+        K::QuotaExceeded => "the disk quota is exceeded".into(),
+        _ => {
+            let s = e.to_string();
+            match s.find(" (os error") {
+                Some(i) => s[..i].to_string(),
+                None => s,
+            }
+        }
+    }
+}
+
+/// [`escape`], but keeping line breaks: for messages of several lines.
+pub fn escape_text(text: &str) -> String {
+    text.split('\n').map(escape).collect::<Vec<_>>().join("\n")
 }
 
 #[cfg(test)]
@@ -346,6 +388,30 @@ mod tests {
         assert_eq!(s.line_text(2), "y = \"é\" z");
         assert_eq!(s.line_text(3), "");
         assert_eq!(s.line_text(9), "");
+    }
+
+    #[test]
+    fn show_text_in_a_diagnostic_is_escaped_but_line_breaks_kept() {
+        let text = "[prop.\"\u{1b}]0;pwned\u{7}\"]\n\tx = 1\n";
+        let src = std::sync::Arc::new(Source::new("a.toml", text.into()));
+        let d = Diagnostic::error("the name `\u{1b}]0;pwned\u{7}` cannot be used\nsecond line")
+            .key("prop.\u{1b}]0;pwned\u{7}")
+            .at(&src, 0..5)
+            .help("try \u{202e}this");
+        let shown = d.to_string();
+        assert!(
+            !shown.chars().any(|c| c.is_control() && c != '\n'),
+            "{shown:?}"
+        );
+        assert!(
+            shown.contains("`\\u{1b}]0;pwned\\u{7}` cannot be used\nsecond line"),
+            "{shown}"
+        );
+        assert!(shown.contains("in `prop.\\u{1b}]0;pwned\\u{7}`"), "{shown}");
+        assert!(shown.contains("try \\u{202e}this"), "{shown}");
+        // A tab in the quoted line becomes a space.
+        let tab = Diagnostic::error("x").at(&src, text.find('x').unwrap()..text.len() - 4);
+        assert!(tab.to_string().contains("2 |  x = 1"), "{tab}");
     }
 
     #[test]

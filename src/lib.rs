@@ -24,6 +24,7 @@ pub mod music;
 pub mod num;
 pub mod output;
 pub mod picture;
+pub mod play;
 pub mod power;
 pub mod prepared;
 pub mod preview;

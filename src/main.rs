@@ -16,7 +16,9 @@ fn main() -> ExitCode {
         glowscore::folder::abandon_staging();
         std::process::exit(130);
     });
-    match dispatch(Cli::parse().command) {
+    let cli = Cli::parse();
+    glowscore::show::allow_pictures_from_anywhere(cli.allow_outside_pictures);
+    match dispatch(cli.command) {
         Ok(()) => ExitCode::SUCCESS,
         // A reader that stopped early (`glowscore events | head`): done.
         Err(Failure::Output { source, .. }) if source.kind() == ErrorKind::BrokenPipe => {
@@ -24,7 +26,9 @@ fn main() -> ExitCode {
         }
         Err(e) => {
             eprint!("{e}");
-            if let Failure::Invalid(_) = e {
+            if let Failure::Invalid(d) = &e
+                && d.any_located()
+            {
                 eprintln!("the show is invalid; nothing was written");
             }
             ExitCode::from(1)
@@ -32,7 +36,10 @@ fn main() -> ExitCode {
     }
 }
 
-/// Runs one command: results go to stdout, the compile's summary to stderr.
+/// Runs one command. The one stream rule: a command's result goes to
+/// stdout (the report, the events, the tempo, the summary of the files
+/// written, a completion script); progress, the reader's notes and errors go
+/// to stderr.
 fn dispatch(command: Command) -> Result<(), Failure> {
     let stdout = &mut std::io::stdout().lock();
     match command {
@@ -42,14 +49,18 @@ fn dispatch(command: Command) -> Result<(), Failure> {
             tolerance_mm,
             header_form,
             no_previews,
-        } => commands::compile::run(
-            &show,
-            out.as_deref(),
-            tolerance_mm,
-            header_form.into(),
-            !no_previews,
-            &mut std::io::stderr().lock(),
-        ),
+            skip,
+            quiet,
+        } => {
+            let opts = commands::compile::RunOptions {
+                tolerance_mm,
+                header_form: header_form.into(),
+                previews: !no_previews,
+                skip,
+                quiet,
+            };
+            commands::compile::run(&show, out.as_deref(), &opts, stdout)
+        }
         Command::Events {
             show,
             json,
@@ -70,6 +81,27 @@ fn dispatch(command: Command) -> Result<(), Failure> {
             deny_warnings,
             tolerance_mm,
         } => commands::check::run(&show, json, deny_warnings, tolerance_mm, stdout),
+        Command::Patterns {
+            show,
+            prop,
+            petals,
+            max_reach,
+            stall,
+            plane,
+            beats,
+            hand_radius,
+        } => {
+            let opts = commands::patterns::PatternOptions {
+                prop,
+                petals,
+                max_reach_m: max_reach,
+                stall,
+                plane: plane.into(),
+                beats,
+                hand_radius_m: hand_radius,
+            };
+            commands::patterns::run(&show, &opts, stdout)
+        }
         Command::Preview(a) => commands::preview::run(&a.show, &a.out, &a.options(), stdout),
         Command::Tempo {
             song,
@@ -87,11 +119,29 @@ fn dispatch(command: Command) -> Result<(), Failure> {
             };
             commands::tempo::run(&song, json, &opts, stdout)
         }
+        Command::Play {
+            show,
+            out,
+            watch,
+            port,
+            song,
+        } => match out {
+            Some(out) if !watch => commands::play::run(&show, &out, song.as_deref(), stdout),
+            _ => commands::play::watch_loop(&show, port, song.as_deref(), stdout),
+        },
         Command::Rehearse {
             show,
             out,
             prop,
             song,
         } => commands::rehearse::run(&show, &out, prop.as_deref(), song.as_deref()),
+        Command::New { name } => commands::new::run(&name, stdout),
+        Command::Completions { shell } => {
+            let mut script = Vec::new();
+            let mut cli = <Cli as clap::CommandFactory>::command();
+            clap_complete::generate(shell, &mut cli, "glowscore", &mut script);
+            std::io::Write::write_all(stdout, &script)
+                .map_err(Failure::output("the completion script"))
+        }
     }
 }

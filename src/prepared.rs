@@ -11,11 +11,18 @@
 //! show has one set of frames whichever command reads it; the frames are
 //! reached only through [`Prepared::for_each_block`] and
 //! [`Prepared::fill_frame`].
+//!
+//! The show's song (`[show] music`) is heard, decoded and analysed, on first
+//! use of [`Prepared::song`] and then kept: `check` and `compile` need it,
+//! `events` and `preview` do not, and none hears it twice.
+
+use std::sync::OnceLock;
 
 use crate::cues::{self, Lights};
 use crate::events::{Event, find_events};
 use crate::model::Show;
 use crate::motion::{PropMotion, simulate};
+use crate::music::{self, MusicError, Song};
 use crate::power;
 
 /// The most LED-frames (frames times LEDs, every prop together) a show may
@@ -28,11 +35,13 @@ pub const MAX_LED_FRAMES: f64 = 1e9;
 pub enum PrepareError {
     /// The show has more than [`MAX_LED_FRAMES`] LED-frames.
     #[error(
-        "the show has {led_frames:.3e} LED-frames (frames times LEDs, every prop together), more than the limit of {MAX_LED_FRAMES:.0e}: lower `show.frame_rate`, shorten the show or use fewer LEDs"
+        "the show has {led_frames:.3e} LED-frames (frames times LEDs, every prop together), more than the limit of {MAX_LED_FRAMES:.0e}; they come from {drivers}: lower `show.frame_rate`, shorten the show or use fewer LEDs"
     )]
     TooManyFrames {
         /// Frames times LEDs, every prop together.
         led_frames: f64,
+        /// The keys that set them, with their lines.
+        drivers: String,
     },
 }
 
@@ -47,6 +56,8 @@ pub struct Prepared {
     /// Per prop, the scale applied to its brightness by `brightness_limit`
     /// (`None` where the prop has no limit).
     brightness_scales: Vec<Option<f64>>,
+    /// The song, once heard.
+    song: OnceLock<Result<Song, MusicError>>,
 }
 
 impl Prepared {
@@ -55,7 +66,10 @@ impl Prepared {
         let leds: f64 = show.props.iter().map(|p| f64::from(p.leds)).sum();
         let led_frames = show.frame_count() as f64 * leds;
         if led_frames.is_nan() || led_frames > MAX_LED_FRAMES {
-            return Err(PrepareError::TooManyFrames { led_frames });
+            return Err(PrepareError::TooManyFrames {
+                led_frames,
+                drivers: show.frame_cost_drivers(),
+            });
         }
         let motions = simulate(&show);
         let events = find_events(&show, &motions);
@@ -67,6 +81,7 @@ impl Prepared {
             events,
             lights,
             brightness_scales,
+            song: OnceLock::new(),
         })
     }
 
@@ -95,6 +110,18 @@ impl Prepared {
     /// (1 when it needed none), or `None` for a prop without the limit.
     pub fn brightness_scale(&self, prop: usize) -> Option<f64> {
         self.brightness_scales.get(prop).copied().flatten()
+    }
+
+    /// The show's song, heard on the first call (decoded, its beat grid
+    /// found, its file's CRC-32 taken) and kept for later calls; `None` for
+    /// a show without `music`. Safe to call from several threads: the song
+    /// is heard once.
+    pub fn song(&self) -> Option<Result<&Song, &MusicError>> {
+        let m = self.show.music.as_ref()?;
+        let heard = self
+            .song
+            .get_or_init(|| music::hear(&m.path, &music::Options::default()));
+        Some(heard.as_ref())
     }
 
     /// Frames in every table of the show.

@@ -10,7 +10,9 @@
 //! counts after W3C WCAG 2.x per prop and for the whole stage, LED current
 //! and battery time ([`light`]), and how far each cue's colour changes land
 //! from their events ([`landing`]). For every cue that paints a picture,
-//! how much of it the LEDs pass ([`coverage`]). [`report`] holds the result.
+//! how much of it the LEDs pass ([`coverage`]). For a show with `music`,
+//! its beat grid against the song's beats and its end against the song's
+//! ([`music`]). [`report`] holds the result.
 //!
 //! Staffs: a staff is a rigid rod held at the grip, with two ends (the head
 //! end, which traces the pattern's head path, and the tail end opposite).
@@ -35,6 +37,7 @@ pub mod jumps;
 pub mod kin;
 pub mod landing;
 pub mod light;
+pub mod music;
 mod overlap;
 pub mod prop;
 pub mod reach;
@@ -97,21 +100,24 @@ impl Default for CheckSettings {
 pub const MAX_SAMPLES: f64 = 2e8;
 
 /// Why a show could not be checked.
-#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+#[derive(Clone, Debug, thiserror::Error)]
 pub enum CheckError {
     /// The searches would need more than [`MAX_SAMPLES`] samples (or a
     /// pattern turns so fast that the count is not finite).
     #[error(
-        "checking this show would take {samples:.3e} samples, more than the limit of {MAX_SAMPLES:.0e}: the show is too long or its patterns turn too fast"
+        "checking this show would take {samples:.3e} samples, more than the limit of {MAX_SAMPLES:.0e}; most are for {at}: the show is too long or its patterns turn too fast (check the sections' bars and the patterns' `beats` and turns)"
     )]
     TooMuchWork {
         /// Sample intervals needed.
         samples: f64,
+        /// The section that needs the most, located: `section[i].bars`
+        /// (bars A-B) at `FILE:LINE`.
+        at: String,
     },
     /// The picture coverage would need more than
     /// [`coverage::MAX_TEXEL_TESTS`] texel tests.
     #[error(
-        "checking how much of the pictures the LEDs reach would take {tests:.3e} texel tests, more than the limit of {max:.0e} (cue {cue} needs the most): use fewer LEDs, a lower frame rate or shorter painting cues",
+        "checking how much of the pictures the LEDs reach would take {tests:.3e} texel tests, more than the limit of {max:.0e} (cue {cue}, `cue[{cue}]` at {at}, needs the most): use fewer LEDs, a lower frame rate or shorter painting cues",
         max = coverage::MAX_TEXEL_TESTS
     )]
     TooMuchPainting {
@@ -119,33 +125,53 @@ pub enum CheckError {
         cue: usize,
         /// Texel tests needed over the show.
         tests: f64,
+        /// Where that cue is: `FILE:LINE`.
+        at: String,
     },
+    /// The show's song could not be read or decoded.
+    #[error("{0}")]
+    Music(#[from] crate::music::MusicError),
 }
 
-/// Checks the prepared show: physics, stage, light, hardware, landing and
-/// picture coverage, with `settings`; refuses a show whose checks would need
+/// Checks the prepared show: physics, stage, light, hardware, landing,
+/// picture coverage and the song, with `settings`; refuses a show whose checks would need
 /// more than [`MAX_SAMPLES`] samples or [`coverage::MAX_TEXEL_TESTS`]
 /// texel tests, before any of the work. The frames are read while the
-/// motion is checked.
+/// motion is checked and the song is heard.
 pub fn check(prepared: &Prepared, settings: &CheckSettings) -> Result<CheckReport, CheckError> {
     within_budget(prepared, settings)?;
-    let (frames, motion) = rayon::join(
-        || frame_figures(prepared),
-        || motion_figures(prepared, settings),
+    let ((frames, motion), music) = rayon::join(
+        || {
+            rayon::join(
+                || frame_figures(prepared),
+                || motion_figures(prepared, settings),
+            )
+        },
+        || music::scan(prepared),
     );
-    Ok(report_of(prepared, motion?, frames, settings))
+    Ok(report_of(prepared, motion?, frames, music?, settings))
 }
 
 /// Sample intervals the checks of `show` need, over all searches.
-fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSettings) -> f64 {
+/// The samples the checks need: in all, and per section.
+fn samples_needed(
+    show: &Show,
+    motions: &[PropMotion],
+    settings: &CheckSettings,
+) -> (f64, Vec<f64>) {
     let mut total = 0.0;
+    let mut per_section = vec![0.0; show.sections.len()];
     for m in motions {
         let p = &show.props[m.prop];
         // The extremes pass for every end, and a poi's slack pass.
         let passes = p.ends_m().len() + usize::from(p.kind == crate::model::PropKind::Poi);
         for piece in kin::pieces(show, m) {
             if let Some(i) = piece.span {
-                total += passes as f64 * prop::piece_samples(&m.spans[i], &piece, settings);
+                let n = passes as f64 * prop::piece_samples(&m.spans[i], &piece, settings);
+                total += n;
+                if let Some(s) = per_section.get_mut(m.spans[i].section) {
+                    *s += n;
+                }
             }
         }
     }
@@ -153,12 +179,16 @@ fn samples_needed(show: &Show, motions: &[PropMotion], settings: &CheckSettings)
         for b in &motions[i + 1..] {
             for sa in &a.spans {
                 if let Some(sb) = b.spans.iter().find(|s| s.section == sa.section) {
-                    total += 2.0 * collision::section_samples(sa, sb, settings);
+                    let n = 2.0 * collision::section_samples(sa, sb, settings);
+                    total += n;
+                    if let Some(s) = per_section.get_mut(sa.section) {
+                        *s += n;
+                    }
                 }
             }
         }
     }
-    total
+    (total, per_section)
 }
 
 /// Refuses a show whose checks would need more than [`MAX_SAMPLES`] samples,
@@ -169,17 +199,37 @@ pub(crate) fn within_budget(
     settings: &CheckSettings,
 ) -> Result<(), CheckError> {
     let (show, motions) = (prepared.show(), prepared.motions());
-    let samples = samples_needed(show, motions, settings);
+    let (samples, per_section) = samples_needed(show, motions, settings);
     if samples.is_nan() || samples > MAX_SAMPLES {
-        return Err(CheckError::TooMuchWork { samples });
+        let most =
+            (0..per_section.len()).max_by(|&a, &b| per_section[a].total_cmp(&per_section[b]));
+        let at = most.map_or_else(
+            || "the show".to_string(),
+            |i| {
+                let s = &show.sections[i];
+                crate::diag::escape(&format!(
+                    "`section[{i}].bars` (bars {}-{}) at {}:{}",
+                    s.first_bar,
+                    s.last_bar,
+                    show.source.name,
+                    show.source.line_col(s.offset).0
+                ))
+            },
+        );
+        return Err(CheckError::TooMuchWork { samples, at });
     }
-    coverage::within_budget(show, motions).map_err(painting_error)
+    coverage::within_budget(show, motions).map_err(|e| painting_error(show, e))
 }
 
-fn painting_error(e: coverage::TooMuchPainting) -> CheckError {
+fn painting_error(show: &Show, e: coverage::TooMuchPainting) -> CheckError {
+    let line = show
+        .cues
+        .get(e.cue)
+        .map_or(0, |c| show.source.line_col(c.offset).0);
     CheckError::TooMuchPainting {
         cue: e.cue,
         tests: e.tests,
+        at: crate::diag::escape(&format!("{}:{line}", show.source.name)),
     }
 }
 
@@ -272,7 +322,7 @@ pub(crate) fn motion_figures(
         },
         || coverage::scan(show, motions),
     );
-    let (paintings, coverage_warnings) = painted.map_err(painting_error)?;
+    let (paintings, coverage_warnings) = painted.map_err(|e| painting_error(show, e))?;
     let mut pairs = Vec::new();
     let mut warnings = Vec::new();
     for (i, a) in motions.iter().enumerate() {
@@ -291,8 +341,10 @@ pub(crate) fn motion_figures(
         warnings.extend(s.warnings);
         props.push(s.figures);
     }
-    for m in motions {
-        warnings.extend(jumps::jumps(show, m, settings.jump_limit()));
+    for (m, figures) in motions.iter().zip(&mut props) {
+        let (joins, w) = jumps::joins(show, m, settings.jump_limit());
+        figures.joins = joins;
+        warnings.extend(w);
     }
     Ok(MotionFigures {
         any: !motions.is_empty(),
@@ -312,6 +364,7 @@ pub(crate) fn report_of(
     prepared: &Prepared,
     motion: MotionFigures,
     frames: FrameFigures,
+    music: Option<music::MusicScan>,
     settings: &CheckSettings,
 ) -> CheckReport {
     let MotionFigures {
@@ -363,11 +416,14 @@ pub(crate) fn report_of(
     warnings.extend(overlap::scan(show, lights));
     warnings.extend(landing_warnings);
     warnings.extend(coverage_warnings);
-    let start = show.tempo.start_s();
+    let music = music.map(|m| {
+        warnings.extend(m.warnings);
+        m.figures
+    });
     let mut report = CheckReport {
         valid: true,
         title: show.title.clone(),
-        duration_s: show.end_s() - start,
+        duration_s: show.end_s(),
         props,
         pairs,
         stage: any.then(|| reach::stage(centre, &hands, &heads, settings.clear_margin_m)),
@@ -380,6 +436,7 @@ pub(crate) fn report_of(
         cues: cue_landings,
         landing: Some(landing_summary),
         paintings,
+        music,
         warnings,
         errors: Vec::new(),
         cautions: Vec::new(),

@@ -273,6 +273,7 @@ pub fn scan_prop(
         reach_from_centre_m: max(Q_CENTRE).sqrt(),
         reach_from_centre_at: when(total[Q_CENTRE].max),
         ends: end_figures,
+        joins: Vec::new(),
         peak_current_a: None,
         peak_current_at: None,
         mean_current_a: None,

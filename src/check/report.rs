@@ -14,6 +14,7 @@ use serde::ser::{SerializeMap, Serializer};
 use super::coverage::PaintingCoverage;
 use super::landing::{CueLanding, LandingSummary};
 use super::light::FlashFigures;
+use super::music::MusicFigures;
 use crate::model::Show;
 use crate::num::round_to;
 
@@ -45,6 +46,8 @@ pub enum WarningKind {
     Coverage,
     /// A later cue on the same prop hides some of a cue's frames.
     Overlap,
+    /// The show's beats stray from its song's, or the show outlasts the song.
+    Music,
 }
 
 impl WarningKind {
@@ -63,6 +66,7 @@ impl WarningKind {
             WarningKind::Drift => "drift",
             WarningKind::Coverage => "coverage",
             WarningKind::Overlap => "overlap",
+            WarningKind::Music => "music",
         }
     }
 }
@@ -303,6 +307,8 @@ pub struct PropFigures {
     /// left out of the JSON).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub ends: Vec<EndFigures>,
+    /// Every section boundary inside the show: the jump and the kink there.
+    pub joins: Vec<super::jumps::JoinFigures>,
     /// Peak LED current, amperes (filled by the light checks; null until then).
     #[serde(serialize_with = "r9_opt")]
     pub peak_current_a: Option<f64>,
@@ -489,7 +495,9 @@ pub struct CheckReport {
     pub valid: bool,
     /// The show's title.
     pub title: String,
-    /// Bar 1 beat 1 to the end of the last section, seconds.
+    /// The show's length, seconds: from time 0 (frame 0) to the end of
+    /// the last section ([`crate::model::Show::end_s`]), the same figure
+    /// `compile` gives.
     #[serde(serialize_with = "r9")]
     pub duration_s: f64,
     /// Per prop, in file order (a JSON object keyed by prop name).
@@ -510,6 +518,10 @@ pub struct CheckReport {
     pub landing: Option<LandingSummary>,
     /// How much of its picture each painting cue's LEDs pass, in cue order.
     pub paintings: Vec<PaintingCoverage>,
+    /// The show against its song (left out of the JSON for a show without
+    /// `music`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub music: Option<MusicFigures>,
     /// Every warning, sorted by time, then kind, then prop.
     pub warnings: Vec<Warning>,
     /// Why the show is invalid (empty when valid).
@@ -578,6 +590,7 @@ impl CheckReport {
             cues: Vec::new(),
             landing: None,
             paintings: Vec::new(),
+            music: None,
             warnings: Vec::new(),
             errors,
             cautions: Vec::new(),

@@ -7,6 +7,7 @@ use std::io::{self, Write};
 use super::coverage::PaintingCoverage;
 use super::landing::{CueLanding, LandingSummary};
 use super::light::FlashFigures;
+use super::music::MusicFigures;
 use super::report::{CheckReport, PairFigures, PropFigures, Rect, Stage, When};
 
 impl CheckReport {
@@ -18,8 +19,9 @@ impl CheckReport {
         }
         writeln!(
             out,
-            "Check of \"{}\": {:.3} s from bar 1 beat 1 to the end",
-            self.title, self.duration_s
+            "Check of \"{}\": {:.3} s long (from frame 0 to the end of the last section)",
+            crate::diag::escape(&self.title),
+            self.duration_s
         )?;
         for p in &self.props {
             write_prop(out, p)?;
@@ -48,6 +50,9 @@ impl CheckReport {
         if !self.paintings.is_empty() {
             write_paintings(out, &self.paintings)?;
         }
+        if let Some(m) = &self.music {
+            write_music(out, m)?;
+        }
         let expected = self.warnings.len() - self.unexpected_warnings();
         if expected > 0 {
             writeln!(
@@ -63,7 +68,7 @@ impl CheckReport {
                 .line
                 .map_or_else(String::new, |l| format!(" (show line {l})"));
             let line = match &w.expected {
-                Some(why) => format!("{line} [expected: {why}]"),
+                Some(why) => format!("{line} [expected: {}]", crate::diag::escape(why)),
                 None => line,
             };
             writeln!(
@@ -73,7 +78,7 @@ impl CheckReport {
                 w.at.bar,
                 w.at.beat,
                 w.kind.name(),
-                w.message
+                crate::diag::escape(&w.message)
             )?;
         }
         writeln!(out, "\nCautions")?;
@@ -168,6 +173,26 @@ fn write_prop(out: &mut dyn Write, p: &PropFigures) -> io::Result<()> {
         p.reach_from_centre_m,
         at(&p.reach_from_centre_at)
     )?;
+    for (i, j) in p.joins.iter().enumerate() {
+        let lead = if i == 0 {
+            "  joins       "
+        } else {
+            "              "
+        };
+        writeln!(
+            out,
+            "{lead}   bar {:<4} {:<8} jump {:>8.1} mm (hand {:.1} mm), speed {:.3} -> {:.3} m/s, kink {:.3} m/s ({} to {})",
+            j.at.bar,
+            j.join,
+            j.jump_mm,
+            j.hand_jump_mm,
+            j.speed_before_m_s,
+            j.speed_after_m_s,
+            j.kink_m_s,
+            super::jumps::playing(&j.from),
+            super::jumps::playing(&j.to)
+        )?;
+    }
     if let Some(a) = p.peak_current_a {
         writeln!(
             out,
@@ -273,7 +298,7 @@ fn write_paintings(out: &mut dyn Write, paintings: &[PaintingCoverage]) -> io::R
             "  cue {} {} `{}` bars {}-{}: {share} of {} texels ({:.1} mm) in {:.3} s of painting{travel}",
             c.cue,
             c.prop,
-            c.file,
+            crate::diag::escape(&c.file),
             c.bars[0],
             c.bars[1],
             c.texels,
@@ -282,6 +307,23 @@ fn write_paintings(out: &mut dyn Write, paintings: &[PaintingCoverage]) -> io::R
         )?;
     }
     Ok(())
+}
+
+fn write_music(out: &mut dyn Write, m: &MusicFigures) -> io::Result<()> {
+    let file = crate::diag::escape(&m.file);
+    let song = match (m.song_bpm, m.song_start_s) {
+        (Some(bpm), Some(start)) => format!(", {bpm:.2} bpm from {start:.3} s"),
+        _ => ", no steady beat".to_string(),
+    };
+    writeln!(out, "\nMusic `{file}`: {:.3} s{song}", m.duration_s)?;
+    match (m.max_offset_ms, m.max_offset_at) {
+        (Some(ms), Some(at)) => writeln!(
+            out,
+            "  show beats off the song's  {ms:.1} ms at most, at {at} ({} beats compared; limit {} ms)",
+            m.beats_compared, m.limit_ms
+        ),
+        _ => writeln!(out, "  show beats off the song's  none compared"),
+    }
 }
 
 fn write_pair(out: &mut dyn Write, p: &PairFigures) -> io::Result<()> {

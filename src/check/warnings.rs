@@ -117,7 +117,8 @@ fn short(x: f64) -> String {
 
 /// The line of the show file behind `w`: the prop's table for the prop's
 /// hardware, the cue that lights the prop at that bar for light and landing
-/// warnings, the section that plays at that bar for the motion.
+/// warnings, the section that plays at that bar for the motion, the `music`
+/// key for the song.
 fn line_of(show: &Show, w: &Warning) -> Option<usize> {
     let prop = show.props.iter().position(|p| p.name == w.prop);
     let bar = w.at.bar.max(1) as u32;
@@ -145,6 +146,7 @@ fn line_of(show: &Show, w: &Warning) -> Option<usize> {
         WarningKind::Slack | WarningKind::SpinRate | WarningKind::Collision | WarningKind::Jump => {
             section_at(show, bar)
         }
+        WarningKind::Music => show.music.as_ref().map(|m| m.offset),
     }?;
     Some(show.source.line_col(offset).0)
 }
@@ -176,6 +178,7 @@ mod tests {
             WarningKind::Drift,
             WarningKind::Coverage,
             WarningKind::Overlap,
+            WarningKind::Music,
         ];
         let names: Vec<&str> = all.iter().map(|k| k.name()).collect();
         assert_eq!(names, crate::model::WARNING_KINDS);

@@ -7,6 +7,9 @@
 pub mod check;
 pub mod compile;
 pub mod events;
+pub mod new;
+pub mod patterns;
+pub mod play;
 pub mod preview;
 pub mod rehearse;
 pub mod tempo;
@@ -37,9 +40,15 @@ pub enum Failure {
     /// The preview could not be rendered or written.
     #[error("error: {0}\n")]
     Preview(#[from] PreviewError),
+    /// The play page could not be made or written.
+    #[error("error: {0}\n")]
+    Play(#[from] crate::play::PlayError),
     /// A song could not be read or analysed, or a practice track written.
     #[error("error: {0}\n")]
-    Music(String),
+    Music(#[from] crate::music::MusicError),
+    /// A practice track could not be made or written.
+    #[error("error: {0}\n")]
+    Rehearse(#[from] rehearse::RehearseError),
     /// An option's value is out of range.
     #[error("error: {0}\n")]
     Option(String),

@@ -1,13 +1,17 @@
-//! `glowscore preview`: a long-exposure picture of a passage, as a PNG.
+//! `glowscore preview`: a long-exposure picture of a passage, as a PNG or a JPEG.
 
-use std::io::{IsTerminal, Write};
+use std::fs::{self, File};
+use std::io::{BufWriter, IsTerminal, Write};
 use std::path::Path;
 use std::time::{Duration, Instant};
 
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 
+use image::codecs::jpeg::JpegEncoder;
+use image::{ExtendedColorType, ImageEncoder, RgbImage};
+
 use super::Failure;
-use crate::preview::{self, PreviewOptions};
+use crate::preview::{self, PreviewError, PreviewOptions};
 
 /// A progress bar on stderr, shown only when stderr is a terminal and the
 /// render has taken more than a second.
@@ -48,26 +52,99 @@ impl Progress {
     }
 }
 
+/// The picture formats `preview --out` writes, chosen by the file's
+/// extension (in any case).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum PictureFormat {
+    /// `.png`: lossless, 8-bit RGB.
+    Png,
+    /// `.jpg` or `.jpeg`: baseline JPEG at [`JPEG_QUALITY`].
+    Jpeg,
+}
+
+/// The quality of the JPEGs `preview` writes (1 to 100).
+pub const JPEG_QUALITY: u8 = 92;
+
+impl PictureFormat {
+    /// The format of a file named `path`, or a message naming the
+    /// extensions accepted.
+    pub fn of(path: &Path) -> Result<PictureFormat, Failure> {
+        let ext = path
+            .extension()
+            .map(|e| e.to_string_lossy().to_ascii_lowercase());
+        match ext.as_deref() {
+            Some("png") => Ok(PictureFormat::Png),
+            Some("jpg" | "jpeg") => Ok(PictureFormat::Jpeg),
+            _ => Err(Failure::Option(format!(
+                "--out `{}`: the picture's name must end in .png, .jpg or .jpeg",
+                crate::diag::escape(&path.display().to_string())
+            ))),
+        }
+    }
+}
+
+/// Writes `img` to `path` in `format`: first to a temporary file beside
+/// it, then renamed over `path`, so that a failure never leaves half a
+/// picture (an earlier one stays as it was). The folder is made if missing.
+pub fn write_picture(path: &Path, img: &RgbImage, format: PictureFormat) -> Result<(), Failure> {
+    let io = |source: std::io::Error| PreviewError::Io {
+        path: path.to_path_buf(),
+        source,
+    };
+    if let Some(dir) = path.parent().filter(|d| !d.as_os_str().is_empty()) {
+        fs::create_dir_all(dir).map_err(io)?;
+    }
+    if format == PictureFormat::Png {
+        return Ok(preview::write_png_atomic(path, img)?);
+    }
+    let name = path
+        .file_name()
+        .ok_or_else(|| io(std::io::Error::other("not a file name")))?
+        .to_string_lossy()
+        .into_owned();
+    let tmp = path.with_file_name(format!(".{name}.{}.tmp", std::process::id()));
+    let result = (|| {
+        let mut w = BufWriter::new(File::create(&tmp).map_err(io)?);
+        JpegEncoder::new_with_quality(&mut w, JPEG_QUALITY)
+            .write_image(
+                img.as_raw(),
+                img.width(),
+                img.height(),
+                ExtendedColorType::Rgb8,
+            )
+            .map_err(|e| io(std::io::Error::other(e)))?;
+        let file = w.into_inner().map_err(|e| io(e.into_error()))?;
+        file.sync_all().map_err(io)?;
+        fs::rename(&tmp, path).map_err(io)
+    })();
+    if result.is_err() {
+        let _ = fs::remove_file(&tmp);
+    }
+    Ok(result?)
+}
+
 /// Renders the preview of the show at `show` with `opts` and writes it to
-/// `out_png` (atomically); a line about it goes to `log`.
+/// `out` (a PNG or a JPEG, by its extension; atomically, making its folder
+/// if missing); a line about it goes to `log`.
 pub fn run(
     show: &Path,
-    out_png: &Path,
+    out: &Path,
     opts: &PreviewOptions,
     log: &mut dyn Write,
 ) -> Result<(), Failure> {
+    let format = PictureFormat::of(out)?;
     let prepared = super::prepare(show)?;
     let progress = Progress::new();
     let photo = preview::shoot(&prepared, opts, &|d, t| progress.update(d, t));
     progress.finish();
     let photo = photo?;
     let img = preview::develop(&photo, opts);
-    preview::write_png_atomic(out_png, &img)?;
+    write_picture(out, &img, format)?;
     let (t0, t1) = photo.window_s;
     writeln!(
         log,
         "{}: {}x{} pixels, shutter {t0:.3} s to {t1:.3} s, gain {:.4e} per LED-second",
-        out_png.display(),
+        crate::diag::escape(&out.display().to_string()),
         img.width(),
         img.height(),
         photo.gain

@@ -1,15 +1,46 @@
 //! `glowscore rehearse SHOW --out practice.wav [--prop P] [--song SONG]`: a
-//! practice track: the song (if given) mixed with a click on every beat of
-//! the show's tempo map (higher and louder on each downbeat) and a short
-//! tone at every colour change of one prop.
+//! practice track: the song (`--song`, else the show's `music`, if any)
+//! mixed with a click on every beat of the show's tempo map (higher and
+//! louder on each downbeat) and a short tone at every colour change of one
+//! prop.
 //!
 //! Levels (peak, full scale 1.0): song x 0.5, click 0.25 (downbeat 0.35),
 //! cue tone 0.15. Their sum is at most 1.0, so the track never clips.
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 use super::Failure;
 use crate::num;
+
+/// Why a practice track could not be made.
+#[derive(Debug, thiserror::Error)]
+pub enum RehearseError {
+    /// `--prop` names no prop of the show.
+    #[error("{}: no prop {name:?} (the props are {})", show.display(), props.join(", "))]
+    NoProp {
+        /// The show file.
+        show: PathBuf,
+        /// The name given.
+        name: String,
+        /// The show's props.
+        props: Vec<String>,
+    },
+    /// The track would be longer than the longest song read.
+    #[error("{}: the practice track would last over 30 minutes", show.display())]
+    TooLong {
+        /// The show file.
+        show: PathBuf,
+    },
+    /// The WAV file could not be written.
+    #[error("{}: cannot write: {source}", file.display())]
+    Write {
+        /// The track's file.
+        file: PathBuf,
+        /// The cause.
+        #[source]
+        source: hound::Error,
+    },
+}
 
 /// Song level.
 pub const SONG_GAIN: f32 = 0.5;
@@ -55,29 +86,24 @@ pub fn run(
             .props
             .iter()
             .position(|p| p.name == name)
-            .ok_or_else(|| {
-                let names: Vec<&str> = show.props.iter().map(|p| p.name.as_str()).collect();
-                Failure::Music(format!(
-                    "{}: no prop {name:?} (the props are {})",
-                    show_path.display(),
-                    names.join(", ")
-                ))
+            .ok_or_else(|| RehearseError::NoProp {
+                show: show_path.to_path_buf(),
+                name: name.to_string(),
+                props: show.props.iter().map(|p| p.name.clone()).collect(),
             })?,
     };
-    let audio = song
-        .map(crate::music::decode_file)
-        .transpose()
-        .map_err(Failure::Music)?;
+    let song = song.or(show.music.as_ref().map(|m| m.path.as_path()));
+    let audio = song.map(crate::music::decode_file).transpose()?;
     let rate = audio.as_ref().map_or(RATE, |a| a.rate);
     let end = show
         .end_s()
         .max(audio.as_ref().map_or(0.0, |a| a.duration_s()))
         + 0.5;
     if !(end.is_finite() && end <= crate::music::decode::MAX_SECONDS) {
-        return Err(Failure::Music(format!(
-            "{}: the practice track would last over 30 minutes",
-            show_path.display()
-        )));
+        return Err(RehearseError::TooLong {
+            show: show_path.to_path_buf(),
+        }
+        .into());
     }
     let mut track = vec![0f32; (end * f64::from(rate)) as usize];
     if let Some(a) = &audio {
@@ -121,7 +147,12 @@ pub fn run(
         bits_per_sample: 16,
         sample_format: hound::SampleFormat::Int,
     };
-    let fail = |e: hound::Error| Failure::Music(format!("{}: cannot write: {e}", out.display()));
+    let fail = |source: hound::Error| {
+        Failure::from(RehearseError::Write {
+            file: out.to_path_buf(),
+            source,
+        })
+    };
     let mut w = hound::WavWriter::create(out, spec).map_err(fail)?;
     for x in &track {
         let q = (f64::from(*x) * 32767.0).round().clamp(-32768.0, 32767.0) as i16;

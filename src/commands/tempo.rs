@@ -7,7 +7,7 @@ use std::path::Path;
 use serde_json::json;
 
 use super::Failure;
-use crate::music::{self, Analysis, MusicError, Options};
+use crate::music::{self, Analysis, BeatError, MusicError, Options};
 
 fn r3(x: f64) -> f64 {
     (x * 1000.0).round() / 1000.0
@@ -19,7 +19,7 @@ fn r2(x: f64) -> f64 {
 
 /// Parses `--bpm-range LO-HI`.
 pub fn parse_range(s: &str) -> Result<(f64, f64), Failure> {
-    let bad = || Failure::Music(format!("--bpm-range must be LO-HI, like 80-160, got {s:?}"));
+    let bad = || Failure::Option(format!("--bpm-range must be LO-HI, like 80-160, got {s:?}"));
     let (a, b) = s.split_once('-').ok_or_else(bad)?;
     let lo: f64 = a.trim().parse().map_err(|_| bad())?;
     let hi: f64 = b.trim().parse().map_err(|_| bad())?;
@@ -67,19 +67,19 @@ pub fn json_value(a: &Analysis) -> serde_json::Value {
 
 /// Runs the command.
 pub fn run(song: &Path, json: bool, opts: &Options, out: &mut dyn Write) -> Result<(), Failure> {
-    let audio = music::decode_file(song).map_err(Failure::Music)?;
+    let audio = music::decode_file(song)?;
     let a = music::analyse(&audio, opts).map_err(|e| match e {
-        MusicError::NoSteadyBeat(m) => Failure::Music(format!("{}: {m}", song.display())),
-        MusicError::BadOptions(m) => Failure::Music(m),
+        BeatError::NoSteadyBeat(_) => Failure::Music(MusicError::Beat {
+            file: song.to_path_buf(),
+            source: e,
+        }),
+        BeatError::BpmRange { .. } | BeatError::BeatsPerBar(_) => Failure::Option(e.to_string()),
     })?;
-    let text = if json {
-        let mut t = serde_json::to_string_pretty(&json_value(&a))
-            .map_err(|e| Failure::Music(e.to_string()))?;
-        t.push('\n');
-        t
+    let io = Failure::output("the tempo");
+    if json {
+        serde_json::to_writer_pretty(&mut *out, &json_value(&a)).map_err(|e| io(e.into()))?;
+        writeln!(out).map_err(io)
     } else {
-        toml_block(song, &a)
-    };
-    out.write_all(text.as_bytes())
-        .map_err(|e| Failure::Music(format!("cannot write the output: {e}")))
+        out.write_all(toml_block(song, &a).as_bytes()).map_err(io)
+    }
 }

@@ -9,6 +9,7 @@ use std::sync::Arc;
 use crate::geom::Vec3;
 
 use crate::diag::Source;
+mod cost;
 mod names;
 mod tempo;
 mod wire;
@@ -27,6 +28,9 @@ pub struct Show {
     pub frame_rate_hz: u32,
     /// Beats and bars against seconds.
     pub tempo: TempoMap,
+    /// The show's song (`[show] music`), if it has one: its time 0 is the
+    /// tables' time 0.
+    pub music: Option<Music>,
     /// The props, in file order.
     pub props: Vec<Prop>,
     /// The named spin patterns, in file order.
@@ -45,6 +49,20 @@ pub struct Show {
     /// The reader's warnings (old key values still read, and the like):
     /// the show is used, and every command prints them.
     pub notes: Vec<crate::diag::Diagnostic>,
+}
+
+/// The song a show is set to: a file beside the show, whose header the
+/// reader has checked (the song is decoded and analysed later, by
+/// [`crate::prepared::Prepared::song`], only by the commands that need it).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Music {
+    /// The file as the show names it.
+    pub file: String,
+    /// The file's path: `file` read from the show file's folder.
+    pub path: std::path::PathBuf,
+    /// Where the `music` key is written in the show file, bytes (to locate
+    /// warnings).
+    pub offset: usize,
 }
 
 /// What kind of prop it is.
@@ -312,6 +330,97 @@ pub struct Pattern {
     pub head_start_deg: f64,
     /// Runs the whole pattern backwards.
     pub reverse: bool,
+    /// The trade figure it was written as (`figure = ...`), if any.
+    pub figure: Option<Figure>,
+    /// A stall (`stall = true` on an antispin): the hand circle's radius is
+    /// `tether_m * |head_turns|` of the prop that plays it, so `hand` holds
+    /// one term whose radius [`Pattern::hand_for`] fills in.
+    pub stall: bool,
+}
+
+/// The trade's figures (`figure = ...`), each a rule for `head_turns` and
+/// `head_start_deg` (common practice; see docs/conventions.md, "Figures").
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Figure {
+    /// The head straight out along the arm: one tether turn per hand turn,
+    /// the tether along the hand's radius.
+    Extension,
+    /// One tether turn per hand turn, the tether pointing back across the
+    /// hand's circle (head opposite the hand).
+    Isolation,
+    /// An inspin flower: `head_turns = petals + 1`.
+    Inspin {
+        /// Petals, 1 or more.
+        petals: u32,
+    },
+    /// An antispin flower: `head_turns = 1 - petals`.
+    Antispin {
+        /// Petals, 2 or more.
+        petals: u32,
+    },
+}
+
+impl Figure {
+    /// The name used in show files.
+    pub fn name(self) -> &'static str {
+        match self {
+            Figure::Extension => "extension",
+            Figure::Isolation => "isolation",
+            Figure::Inspin { .. } => "inspin",
+            Figure::Antispin { .. } => "antispin",
+        }
+    }
+
+    /// Tether turns per hand revolution (common practice: an inspin flower of
+    /// N petals turns the tether N + 1 times per hand revolution, an antispin
+    /// flower 1 - N times; a petal is one tip of the head's distance).
+    pub fn head_turns(self) -> f64 {
+        match self {
+            Figure::Extension | Figure::Isolation => 1.0,
+            Figure::Inspin { petals } => f64::from(petals) + 1.0,
+            Figure::Antispin { petals } => 1.0 - f64::from(petals),
+        }
+    }
+
+    /// The tether's start angle relative to the hand's (degrees): 0 (head out
+    /// along the arm, at a tip) except for an isolation, 180.
+    pub fn head_offset_deg(self) -> f64 {
+        match self {
+            Figure::Isolation => 180.0,
+            _ => 0.0,
+        }
+    }
+
+    /// Petals of the head's path (tips per hand revolution): 0 for an
+    /// extension or isolation, whose distance from the anchor never changes.
+    pub fn petals(self) -> u32 {
+        match self {
+            Figure::Extension | Figure::Isolation => 0,
+            Figure::Inspin { petals } | Figure::Antispin { petals } => petals,
+        }
+    }
+}
+
+impl Pattern {
+    /// The hand path when `prop` plays it: `hand`, with a stall's radius
+    /// filled in as `tether_m * |head_turns|` (the hand's and the tether's
+    /// speeds cancel at the tips: the head stops there, common practice).
+    pub fn hand_for(&self, prop: &Prop) -> Vec<Term> {
+        let mut hand = self.hand.clone();
+        if self.stall {
+            for t in &mut hand {
+                t.radius_m = stall_radius_m(prop.tether_m, self.head_turns);
+            }
+        }
+        hand
+    }
+}
+
+/// The hand radius at which a head on a tether of `tether_m` metres turning
+/// `head_turns` times per hand revolution stops at its tips:
+/// `tether_m * |head_turns|` (common practice).
+pub fn stall_radius_m(tether_m: f64, head_turns: f64) -> f64 {
+    tether_m * head_turns.abs()
 }
 
 /// A pattern placed on a prop in a section.
@@ -336,6 +445,30 @@ pub struct Section {
     pub last_bar: u32,
     /// Per prop (index as in [`Show::props`]): what it plays, if anything.
     pub placements: Vec<Option<Placement>>,
+    /// How its props start: restarted or carried on from the section before.
+    pub join: Join,
+}
+
+/// How a section's props start (`[[section]] join = ...`).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum Join {
+    /// Every pattern starts at its own start angles (`restart`, the default).
+    #[default]
+    Restart,
+    /// Every prop starts where the section before left it (`continue`): the
+    /// start angles are solved so that hand and head do not jump
+    /// (`motion::join`).
+    Continue,
+}
+
+impl Join {
+    /// The name used in show files.
+    pub fn name(self) -> &'static str {
+        match self {
+            Join::Restart => "restart",
+            Join::Continue => "continue",
+        }
+    }
 }
 
 /// The kinds of event a cue can be anchored to.
@@ -493,6 +626,7 @@ pub const WARNING_KINDS: &[&str] = &[
     "drift",
     "coverage",
     "overlap",
+    "music",
 ];
 
 /// A warning the show's author knows of and means (`[[expected]]`).
@@ -516,7 +650,10 @@ impl Show {
         self.props.iter().position(|p| p.name == name)
     }
 
-    /// Time at which the last section ends, seconds.
+    /// Time at which the last section ends, seconds: the show's length,
+    /// from time 0 (frame 0, before bar 1 when `start_s` > 0) to the end of
+    /// the last section. Every command reports this one figure
+    /// (docs/conventions.md, "Colour on the frames").
     pub fn end_s(&self) -> f64 {
         let last = self.sections.iter().map(|s| s.last_bar).max().unwrap_or(0);
         self.tempo.time_at_bar(last + 1)

@@ -7,6 +7,7 @@
 //! prop rests: hand at the anchor, head hanging straight down.
 
 pub mod curve;
+pub mod join;
 
 use std::f64::consts::{PI, TAU};
 
@@ -14,7 +15,7 @@ use crate::geom::Vec3;
 
 pub use curve::{Curve, Jet, Rotor};
 
-use crate::model::{Plane, Show, TempoMap};
+use crate::model::{Join, Plane, Prop, Show, TempoMap};
 use crate::num;
 
 /// One prop playing one pattern through one section.
@@ -48,6 +49,9 @@ pub struct Span {
     pub head: Curve,
     /// The tether (or rod) term: grip to head end.
     tether: Rotor,
+    /// The start angles solved for a continuous join (`join = "continue"`),
+    /// in place of the pattern's; `None` where the section restarts.
+    pub fit: Option<join::Fit>,
 }
 
 impl Span {
@@ -97,6 +101,12 @@ impl Span {
     /// A direction of the plane's own coordinates in stage coordinates.
     pub fn to_stage_dir(&self, p: [f64; 2]) -> Vec3 {
         self.up * p[0] + self.right * p[1]
+    }
+
+    /// The tether (or rod) term: grip to head end, in phase (its radius is
+    /// the tether length).
+    pub fn tether(&self) -> Rotor {
+        self.tether
     }
 
     /// The anchor, stage coordinates, metres.
@@ -180,51 +190,62 @@ impl PropMotion {
     /// The motion of prop `prop` of `show`.
     pub fn new(show: &Show, prop: usize) -> Self {
         let p = &show.props[prop];
-        let spans = show
-            .sections
-            .iter()
-            .enumerate()
-            .filter_map(|(i, sec)| {
-                let pl = sec.placements.get(prop).copied().flatten()?;
-                let pat = &show.patterns[pl.pattern];
-                let start_beat = show.tempo.beat_of_bar(sec.first_bar);
-                let end_beat = show.tempo.beat_of_bar(sec.last_bar + 1);
-                let hand_rotors = pat.hand.iter().map(|t| Rotor {
+        let mut spans: Vec<Span> = Vec::new();
+        for (i, sec) in show.sections.iter().enumerate() {
+            let Some(pl) = sec.placements.get(prop).copied().flatten() else {
+                continue;
+            };
+            let pat = &show.patterns[pl.pattern];
+            let start_beat = show.tempo.beat_of_bar(sec.first_bar);
+            let end_beat = show.tempo.beat_of_bar(sec.last_bar + 1);
+            let hand_rotors: Vec<Rotor> = pat
+                .hand_for(p)
+                .iter()
+                .map(|t| Rotor {
                     radius_m: t.radius_m,
                     turns: t.turns,
                     start_rad: num::rad(t.start_deg),
-                });
-                let tether = Rotor {
-                    radius_m: p.tether_m,
-                    turns: pat.head_turns,
-                    start_rad: num::rad(pat.head_start_deg),
-                };
-                let right = if pl.mirror {
-                    -pat.plane.right()
-                } else {
-                    pat.plane.right()
-                };
-                let dir = if pat.reverse { -1.0 } else { 1.0 };
-                Some(Span {
-                    section: i,
-                    pattern: pl.pattern,
-                    start_beat,
-                    end_beat,
-                    start_s: show.tempo.time_at_beat(start_beat),
-                    end_s: show.tempo.time_at_beat(end_beat),
-                    plane: pat.plane,
-                    mirror: pl.mirror,
-                    anchor: p.anchor_m,
-                    up: pat.plane.up(),
-                    right,
-                    phase_per_beat: dir / pat.beats,
-                    delay_beats: pl.delay_beats,
-                    hand: Curve::new(hand_rotors.clone()),
-                    head: Curve::new(hand_rotors.chain([tether])),
-                    tether,
                 })
-            })
-            .collect();
+                .collect();
+            let tether = Rotor {
+                radius_m: p.tether_m,
+                turns: pat.head_turns,
+                start_rad: num::rad(pat.head_start_deg),
+            };
+            let right = if pl.mirror {
+                -pat.plane.right()
+            } else {
+                pat.plane.right()
+            };
+            let dir = if pat.reverse { -1.0 } else { 1.0 };
+            let span = Span {
+                section: i,
+                pattern: pl.pattern,
+                start_beat,
+                end_beat,
+                start_s: show.tempo.time_at_beat(start_beat),
+                end_s: show.tempo.time_at_beat(end_beat),
+                plane: pat.plane,
+                mirror: pl.mirror,
+                anchor: p.anchor_m,
+                up: pat.plane.up(),
+                right,
+                phase_per_beat: dir / pat.beats,
+                delay_beats: pl.delay_beats,
+                hand: Curve::new(hand_rotors.iter().copied()),
+                head: Curve::new(hand_rotors.iter().copied().chain([tether])),
+                tether,
+                fit: None,
+            };
+            let span = if sec.join == Join::Continue {
+                let before = before_beat(&spans, p, start_beat);
+                let fit = join::solve(&span, &before);
+                span.with_fit(&fit)
+            } else {
+                span
+            };
+            spans.push(span);
+        }
         PropMotion {
             prop,
             spans,
@@ -246,6 +267,13 @@ impl PropMotion {
     /// anchor and the prop pointing straight down from it.
     pub fn rest_point(&self, along_m: f64) -> Vec3 {
         self.anchor - Vec3::new(0.0, along_m, 0.0)
+    }
+
+    /// Where the prop is just before global beat `beat`: at the end of the
+    /// span that ends there, or at rest.
+    pub fn before(&self, show: &Show, beat: f64) -> join::Before {
+        let i = self.spans.partition_point(|s| s.end_beat <= beat);
+        before_beat(&self.spans[..i], &show.props[self.prop], beat)
     }
 
     /// The state at `t` seconds from frame 0.
@@ -286,6 +314,24 @@ impl PropMotion {
                 span: None,
             },
         }
+    }
+}
+
+/// Where the prop of `spans` (all before `beat`) is just before global beat
+/// `beat`: the end of the span that ends there, or at rest.
+fn before_beat(spans: &[Span], prop: &Prop, beat: f64) -> join::Before {
+    match spans.last().filter(|s| s.end_beat == beat) {
+        Some(s) => {
+            let u = s.phase(s.beats());
+            join::Before {
+                hand_m: s.to_stage(s.hand.point(u)),
+                head_m: s.to_stage(s.head.point(u)),
+            }
+        }
+        None => join::Before {
+            hand_m: prop.anchor_m,
+            head_m: prop.anchor_m - Vec3::new(0.0, prop.tether_m, 0.0),
+        },
     }
 }
 

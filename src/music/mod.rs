@@ -1,7 +1,7 @@
 //! The song: decoding, onset envelope, tempo, beats, bars and tempo changes.
 //!
 //! Usable without the command line: [`decode::decode_file`] then
-//! [`analyse`]. The methods (see each file): log-compressed spectral flux on
+//! [`analyse`], or [`hear`] for both (with the file's size and CRC-32). The methods (see each file): log-compressed spectral flux on
 //! a mel spectrogram (`onset`), Ellis 2007's tempo estimate (`tempo`) and
 //! dynamic-programming beat tracker (`beats`) with parabolic sub-frame
 //! interpolation, downbeats from the accent pattern (`bars`), tempo changes
@@ -12,12 +12,16 @@ pub mod bars;
 pub mod beats;
 pub mod changes;
 pub mod decode;
+pub mod error;
 pub mod onset;
+mod song;
 pub mod synth;
 pub mod tempo;
 
 pub use changes::Change;
-pub use decode::{Audio, decode_file};
+pub use decode::{Audio, Header, decode_file, probe_file};
+pub use error::{BeatError, MusicError, NoBeat};
+pub use song::{Song, hear};
 
 /// Under this normalised autocorrelation at the beat period there is no
 /// steady beat (our threshold: a drum pattern gives 0.3 or more, noise under 0.05).
@@ -55,27 +59,8 @@ pub struct Analysis {
     pub confidence: f64,
 }
 
-/// Why there is no analysis.
-#[derive(Debug, Clone, PartialEq)]
-pub enum MusicError {
-    /// No steady beat was found (the message says why).
-    NoSteadyBeat(String),
-    /// The options make no sense.
-    BadOptions(String),
-}
-
-impl std::fmt::Display for MusicError {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        match self {
-            MusicError::NoSteadyBeat(m) | MusicError::BadOptions(m) => f.write_str(m),
-        }
-    }
-}
-
-fn no_beat(why: &str) -> MusicError {
-    MusicError::NoSteadyBeat(format!(
-        "no steady beat: {why}; try --bpm-range LO-HI, or set bpm and start_s in the show by hand"
-    ))
+fn no_beat(why: NoBeat) -> BeatError {
+    BeatError::NoSteadyBeat(why)
 }
 
 /// Moves a beat to the sharpest rise of the signal's energy within
@@ -113,47 +98,42 @@ fn refine(samples: &[f32], rate: u32, t: f64, radius: f64) -> f64 {
 }
 
 /// Finds the beat grid of `audio`.
-pub fn analyse(audio: &Audio, opts: &Options) -> Result<Analysis, MusicError> {
+pub fn analyse(audio: &Audio, opts: &Options) -> Result<Analysis, BeatError> {
     let range = opts.bpm_range.unwrap_or(tempo::DEFAULT_RANGE);
     if !(range.0.is_finite() && range.1.is_finite() && range.0 >= 10.0 && range.1 <= 1000.0)
         || range.0 >= range.1
     {
-        return Err(MusicError::BadOptions(format!(
-            "--bpm-range must be LO-HI with 10 <= LO < HI <= 1000, got {}-{}",
-            range.0, range.1
-        )));
+        return Err(BeatError::BpmRange {
+            lo: range.0,
+            hi: range.1,
+        });
     }
     if let Some(n) = opts.beats_per_bar
         && !(1..=16).contains(&n)
     {
-        return Err(MusicError::BadOptions(format!(
-            "--beats-per-bar must be 1 to 16, got {n}"
-        )));
+        return Err(BeatError::BeatsPerBar(n));
     }
     let duration_s = audio.duration_s();
     let peak = audio.samples.iter().fold(0f32, |m, &x| m.max(x.abs()));
     if peak < SILENCE {
-        return Err(no_beat("the song is silent"));
+        return Err(no_beat(NoBeat::Silent));
     }
     let env = onset::envelope(&audio.samples, audio.rate);
     let fr = env.frame_rate();
     if (env.onset.len() as f64) < 4.0 * 60.0 / range.0 * fr {
-        return Err(no_beat(
-            "the song is too short for four beats at the slowest tempo",
-        ));
+        return Err(no_beat(NoBeat::TooShort));
     }
     let global = tempo::global_period(&env.onset, fr, range);
     if global.strength < MIN_STRENGTH {
-        return Err(no_beat(&format!(
-            "the onsets repeat too weakly (strength {:.2} under {MIN_STRENGTH})",
-            global.strength
-        )));
+        return Err(no_beat(NoBeat::Weak {
+            strength: global.strength,
+        }));
     }
     let periods = tempo::local_periods(&env.onset, fr, global.frames);
     let mut frames = beats::track(&env.onset, &periods);
     beats::trim(&mut frames, &env.onset);
     if frames.len() < 4 {
-        return Err(no_beat("fewer than four beats were found"));
+        return Err(no_beat(NoBeat::FewBeats));
     }
     let (per_bar, first) = bars::meter(&frames, &env.onset, &env.low, opts.beats_per_bar);
     let hop_s = env.hop as f64 / f64::from(audio.rate);
@@ -168,7 +148,7 @@ pub fn analyse(audio: &Audio, opts: &Options) -> Result<Analysis, MusicError> {
         .collect();
     let (bpm, tempo) = changes::find(&beats, first, per_bar as usize);
     if !(bpm.is_finite() && bpm > 0.0) {
-        return Err(no_beat("the beats found do not advance"));
+        return Err(no_beat(NoBeat::NoAdvance));
     }
     Ok(Analysis {
         duration_s,

@@ -6,7 +6,7 @@ use thiserror::Error;
 #[derive(Debug, Error)]
 pub enum OutputError {
     /// The output could not be written to.
-    #[error("cannot write the table: {0}")]
+    #[error("{}", crate::diag::io_phrase(.0))]
     Io(#[from] std::io::Error),
     /// The prop's show cannot be stored in the program form.
     #[error(transparent)]

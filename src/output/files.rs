@@ -37,6 +37,9 @@ pub struct Opening<'a> {
     /// The prop's program form, made from the prepared show before the
     /// frames (`output::program::encode`); its writer only stores it.
     pub program: &'a [u8],
+    /// Keys of the formats not to write (only the text forms, `csv` and
+    /// `header`, may be left out).
+    pub skip: &'a [String],
 }
 
 /// One file of a prop being written: frames in, its figures out.
@@ -264,7 +267,8 @@ impl PropFiles {
         };
         // The header's text opens first: the format it embeds writes it.
         let mut header = None;
-        for format in FORMATS.iter().filter(|f| f.open.is_none()) {
+        let wanted = |f: &Format| !opening.skip.iter().any(|k| k == f.key);
+        for format in FORMATS.iter().filter(|f| f.open.is_none() && wanted(f)) {
             let name = name_of(format);
             let text = CHeaderText::new(
                 create(&name)?,
@@ -279,7 +283,7 @@ impl PropFiles {
             header = Some(Background::with_thread(text, threaded));
         }
         let mut files = Vec::with_capacity(FORMATS.len());
-        for format in FORMATS {
+        for format in FORMATS.into_iter().filter(wanted) {
             let name = name_of(&format);
             let Some(open) = format.open else {
                 files.push((format, name, Box::new(Fed) as Box<dyn PropFile>));

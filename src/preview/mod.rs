@@ -23,6 +23,7 @@
 //! sum; a second for a pinhole's nearest depth), one that counts the points
 //! against [`trail::MAX_PIECES`], and the one that draws them chunk by chunk.
 
+pub mod blur;
 pub mod camera;
 pub mod overlay;
 pub mod png;
@@ -421,76 +422,183 @@ pub fn shoot(
     opts: &PreviewOptions,
     progress: &(dyn Fn(u64, u64) + Sync),
 ) -> Result<Photo, PreviewError> {
-    let (show, motions, lights) = (prepared.show(), prepared.motions(), prepared.lights());
+    let show = prepared.show();
     let (t0, t1) = window(show, &opts.shutter)?;
-    if !(opts.ev_stops.is_finite() && opts.ev_stops.abs() <= MAX_EV_STOPS) {
-        return Err(PreviewError::Options(format!(
-            "--ev must be between -{MAX_EV_STOPS} and {MAX_EV_STOPS} stops, got {}",
-            opts.ev_stops
-        )));
-    }
-    trail::check_frames(show, t0, t1)?;
-    let needs_scout = opts.viewport.is_none() || opts.pinhole.is_some();
-    let cloud = if needs_scout {
-        Some(scout(show, motions, lights, opts.view, (t0, t1))?)
-    } else {
-        None
-    };
-    let cam = make_camera(show, opts, cloud.as_ref())?;
-    // The nearest lit depth sets the finest pixel scale of a pinhole photo.
-    let near = if opts.pinhole.is_some() {
-        nearest_depth(show, motions, lights, &cam, (t0, t1))?
-    } else {
-        f64::INFINITY
-    };
-    let (sx, sy) = cam.pixels_per_m(if near.is_finite() { near } else { 1.0 });
-    let px_m = 1.0 / sx.max(sy);
-    let glows: Vec<f64> = show.props.iter().map(glow_sigma_m).collect();
-    let spacing = |p: usize| {
-        let g = glows[p];
-        let blur = splat::MIN_BLUR_PX * px_m;
-        (g * g + blur * blur).sqrt()
-    };
-    let total = trail::count(show, motions, lights, t0, t1, &spacing, trail::MAX_PIECES)?;
-    // Glows are made and added in chunks, in order, to bound the memory.
-    let (w, h) = (cam.width, cam.height);
-    let mut film = Film::new(w, h);
-    let mut done: u64 = 0;
-    let made = trail::for_each_chunk(
+    let setup = Setup::new(prepared, opts, (t0, t1))?;
+    let total = trail::count(
         show,
-        motions,
-        lights,
+        prepared.motions(),
+        prepared.lights(),
         t0,
         t1,
-        &spacing,
-        KERNEL_CHUNK,
+        &|p| setup.spacing_m(p),
         trail::MAX_PIECES,
-        &mut |chunk| {
-            let kernels: Vec<splat::Kernel> = chunk
-                .par_iter()
-                .filter_map(|p| {
-                    let q = cam.project(&p.pos)?;
-                    let g = glows[p.prop];
-                    let e = p.energy.map(|v| (v * q.gain) as f32);
-                    splat::kernel(q.px, q.py, g * q.scale_x, g * q.scale_y, e, w, h)
-                })
-                .collect();
-            let n = chunk.len() as u64;
-            splat::accumulate_into(&mut film, &kernels, &|d, bands| {
-                progress(done + n * d / bands.max(1), total.max(1))
-            });
-            done += n;
-            Ok(())
-        },
     )?;
+    let mut film = Film::new(setup.cam.width, setup.cam.height);
+    let made = setup.expose(prepared, (t0, t1), trail::MAX_PIECES, &mut film, &|d| {
+        progress(d, total.max(1))
+    })?;
     let gain = tone::metered_gain(film.max(), opts.ev_stops);
     Ok(Photo {
         film,
-        camera: cam,
+        camera: setup.cam,
         window_s: (t0, t1),
         gain,
         pieces: made as usize,
     })
+}
+
+/// Points of light closer than this many glow widths (standard deviations,
+/// with the blur) along a path: Gaussians set 1.5 standard deviations apart
+/// add up to a line even to about 0.03 % (by the Poisson summation formula
+/// the ripple is 2 exp(-2 pi^2 / 1.5^2)), far below what 8 bits show.
+pub const PIECE_SPACING_SIGMAS: f64 = 1.5;
+
+/// A camera made for an exposure, and the spacing of its points of light.
+struct Setup {
+    cam: Camera,
+    /// Each prop's glow, metres.
+    glows: Vec<f64>,
+    /// One pixel, metres, at the finest scale of the picture.
+    px_m: f64,
+}
+
+impl Setup {
+    /// Checks the options and the window `(t0, t1)`, scouts the light where
+    /// the camera must be fitted to it and makes the camera.
+    fn new(
+        prepared: &Prepared,
+        opts: &PreviewOptions,
+        (t0, t1): (f64, f64),
+    ) -> Result<Setup, PreviewError> {
+        let (show, motions, lights) = (prepared.show(), prepared.motions(), prepared.lights());
+        if !(opts.ev_stops.is_finite() && opts.ev_stops.abs() <= MAX_EV_STOPS) {
+            return Err(PreviewError::Options(format!(
+                "--ev must be between -{MAX_EV_STOPS} and {MAX_EV_STOPS} stops, got {}",
+                opts.ev_stops
+            )));
+        }
+        trail::check_frames(show, t0, t1)?;
+        let needs_scout = opts.viewport.is_none() || opts.pinhole.is_some();
+        let cloud = if needs_scout {
+            Some(scout(show, motions, lights, opts.view, (t0, t1))?)
+        } else {
+            None
+        };
+        let cam = make_camera(show, opts, cloud.as_ref())?;
+        // The nearest lit depth sets the finest pixel scale of a pinhole photo.
+        let near = if opts.pinhole.is_some() {
+            nearest_depth(show, motions, lights, &cam, (t0, t1))?
+        } else {
+            f64::INFINITY
+        };
+        let (sx, sy) = cam.pixels_per_m(if near.is_finite() { near } else { 1.0 });
+        Ok(Setup {
+            cam,
+            glows: show.props.iter().map(glow_sigma_m).collect(),
+            px_m: 1.0 / sx.max(sy),
+        })
+    }
+
+    /// The largest distance an LED of prop `p` moves within one point of
+    /// light, metres.
+    fn spacing_m(&self, p: usize) -> f64 {
+        let g = self.glows[p];
+        let blur = splat::MIN_BLUR_PX * self.px_m;
+        PIECE_SPACING_SIGMAS * (g * g + blur * blur).sqrt()
+    }
+
+    /// Adds the light of the window `(t0, t1)` to `film` (made for this
+    /// camera), refusing more than `limit` points; `progress(points)` as it
+    /// goes. Returns the number of points made.
+    fn expose(
+        &self,
+        prepared: &Prepared,
+        (t0, t1): (f64, f64),
+        limit: u64,
+        film: &mut Film,
+        progress: &(dyn Fn(u64) + Sync),
+    ) -> Result<u64, PreviewError> {
+        let (show, motions, lights) = (prepared.show(), prepared.motions(), prepared.lights());
+        let cam = &self.cam;
+        let (w, h) = (cam.width, cam.height);
+        let mut done: u64 = 0;
+        // Orthographic views deposit each point and blur once per glow
+        // width (module `blur`); a pinhole's glows change with depth, so
+        // each point gets its own kernel.
+        let mut deposits = cam.viewport().map(|_| blur::Deposits::new(w, h));
+        let mut groups: Vec<Option<usize>> = vec![None; self.glows.len()];
+        let made = trail::for_each_chunk(
+            show,
+            motions,
+            lights,
+            t0,
+            t1,
+            &|p| self.spacing_m(p),
+            KERNEL_CHUNK,
+            limit,
+            &mut |chunk| {
+                let n = chunk.len() as u64;
+                if let Some(dep) = deposits.as_mut() {
+                    let seen: Vec<Option<(usize, camera::Projected)>> = chunk
+                        .par_iter()
+                        .map(|p| cam.project(&p.pos).map(|q| (p.prop, q)))
+                        .collect();
+                    let mut rest = Vec::new();
+                    for ((prop, q), piece) in seen
+                        .into_iter()
+                        .zip(chunk)
+                        .filter_map(|(s, p)| s.map(|s| (s, p)))
+                    {
+                        let g = self.glows[prop];
+                        let e = piece.energy.map(|v| (v * q.gain) as f32);
+                        let group = match groups[prop] {
+                            Some(i) => Some(i),
+                            None => {
+                                let i = dep.group(g * q.scale_x, g * q.scale_y);
+                                groups[prop] = i;
+                                i
+                            }
+                        };
+                        match group {
+                            Some(i) => dep.deposit(i, q.px, q.py, e),
+                            None => rest.extend(splat::kernel(
+                                q.px,
+                                q.py,
+                                g * q.scale_x,
+                                g * q.scale_y,
+                                e,
+                                w,
+                                h,
+                            )),
+                        }
+                    }
+                    splat::accumulate_into(film, &rest, &|_, _| {});
+                    done += n;
+                    progress(done);
+                    return Ok(());
+                }
+                let kernels: Vec<splat::Kernel> = chunk
+                    .par_iter()
+                    .filter_map(|p| {
+                        let q = cam.project(&p.pos)?;
+                        let g = self.glows[p.prop];
+                        let e = p.energy.map(|v| (v * q.gain) as f32);
+                        splat::kernel(q.px, q.py, g * q.scale_x, g * q.scale_y, e, w, h)
+                    })
+                    .collect();
+                splat::accumulate_into(film, &kernels, &|d, bands| {
+                    progress(done + n * d / bands.max(1))
+                });
+                done += n;
+                Ok(())
+            },
+        )?;
+        if let Some(dep) = deposits {
+            dep.develop_into(film);
+        }
+        Ok(made)
+    }
 }
 
 /// Develops `photo` into the 8-bit sRGB picture (with the scale bar if asked).
@@ -525,34 +633,75 @@ pub const SHOW_FILE_NAME: &str = "preview.png";
 /// (unless `opts` fixes the viewport or the camera). Everything is rendered
 /// before anything is written; each file is written atomically. The
 /// shutter of `opts` is ignored. Returns the files written, show first.
+///
+/// One pass over the frames makes them all: each section's light is
+/// exposed once, onto its own film, which is then added to the whole
+/// show's film (with the light between and around the sections), so no
+/// point of light is made or drawn twice. Each picture is metered on its
+/// own.
 pub fn write_previews(
     prepared: &Prepared,
     dir: &Path,
     opts: &PreviewOptions,
 ) -> Result<Vec<PathBuf>, PreviewError> {
+    let show = prepared.show();
     let mut whole = opts.clone();
     whole.shutter = Shutter::default();
-    let photo = shoot(prepared, &whole, &|_, _| {})?;
-    let mut pictures = vec![(dir.join(SHOW_FILE_NAME), develop(&photo, &whole))];
-    let mut framed = whole.clone();
-    if framed.pinhole.is_none() {
-        framed.viewport = photo.camera.viewport().map(|v| v.1);
-        framed.size = Some((photo.camera.width, photo.camera.height));
-    } else if let (Some(ph), Some((_, target))) =
-        (framed.pinhole.as_mut(), photo.camera.eye_and_target())
-    {
-        ph.look_at_m = Some(target);
-        framed.size = Some((photo.camera.width, photo.camera.height));
+    let (t0, t1) = window(show, &whole.shutter)?;
+    let setup = Setup::new(prepared, &whole, (t0, t1))?;
+    let (w, h) = (setup.cam.width, setup.cam.height);
+    let mut film = Film::new(w, h);
+    let mut budget = trail::MAX_PIECES;
+    let mut made: u64 = 0;
+    let mut pictures = Vec::new();
+    // The windows of the sections, in time order, clipped to the show's.
+    let mut windows = Vec::new();
+    for sec in &show.sections {
+        let shutter = Shutter {
+            bars: Some((sec.first_bar, sec.last_bar)),
+            ..Shutter::default()
+        };
+        let (a, b) = window(show, &shutter)?;
+        windows.push((sec, a.max(t0), b.min(t1)));
     }
-    for sec in &prepared.show().sections {
-        let mut o = framed.clone();
-        o.shutter.bars = Some((sec.first_bar, sec.last_bar));
-        let img = render(prepared, &o)?;
+    windows.sort_by(|x, y| x.1.total_cmp(&y.1));
+    let mut covered = t0;
+    for (sec, a, b) in windows {
+        if a > covered {
+            let n = setup.expose(prepared, (covered, a), budget, &mut film, &|_| {})?;
+            budget -= n;
+            made += n;
+        }
+        let mut own = Film::new(w, h);
+        let (a, b) = (a.max(covered), b.max(a.max(covered)));
+        let n = setup.expose(prepared, (a, b), budget, &mut own, &|_| {})?;
+        budget -= n;
+        made += n;
+        covered = covered.max(b);
+        let photo = Photo {
+            gain: tone::metered_gain(own.max(), whole.ev_stops),
+            film: own,
+            camera: setup.cam,
+            window_s: (a, b),
+            pieces: n as usize,
+        };
         pictures.push((
             dir.join(section_file_name(sec.first_bar, sec.last_bar)),
-            img,
+            develop(&photo, &whole),
         ));
+        film.add(&photo.film);
     }
+    if t1 > covered {
+        made += setup.expose(prepared, (covered, t1), budget, &mut film, &|_| {})?;
+    }
+    let photo = Photo {
+        gain: tone::metered_gain(film.max(), whole.ev_stops),
+        film,
+        camera: setup.cam,
+        window_s: (t0, t1),
+        pieces: made as usize,
+    };
+    pictures.insert(0, (dir.join(SHOW_FILE_NAME), develop(&photo, &whole)));
     let mut written = Vec::new();
     for (path, img) in pictures {
         write_png_atomic(&path, &img)?;

@@ -204,6 +204,17 @@ fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>, pictures: &mut Pictures) -> Option<Pa
         .map(Path::to_path_buf)
         .unwrap_or_default();
     let path = base.join(&file);
+    if !super::pictures_from_anywhere()
+        && let Some(why) = outside(&base, &path)
+    {
+        ctx.error_help(
+            &t.key_path("image"),
+            file_span,
+            format!("`{file}` {why}: pictures are read from the show file's folder and the folders in it"),
+            "move the picture beside the show file, or give --allow-outside-pictures to read it where it is",
+        );
+        return None;
+    }
     let loaded = pictures
         .entry(path)
         .or_insert_with_key(|path| Picture::load(path).map(Arc::new));
@@ -234,6 +245,38 @@ fn painting(ctx: &mut Ctx, t: Tbl<'_, '_>, pictures: &mut Pictures) -> Option<Pa
             fixed_to: fixed_to?,
         },
     })
+}
+
+/// Why the picture at `path` is not inside the show's folder `base`, if it
+/// is not: an absolute path, or one that leaves the folder (through `..`
+/// or a symbolic link). A picture that does not exist is not refused here:
+/// reading it says so.
+fn outside(base: &Path, path: &Path) -> Option<&'static str> {
+    use std::path::Component;
+    if path
+        .strip_prefix(base)
+        .map_or(true, |rel| rel.is_absolute() || rel.has_root())
+    {
+        return Some("is an absolute path");
+    }
+    let rel = path.strip_prefix(base).ok()?;
+    if rel.components().any(|c| {
+        matches!(
+            c,
+            Component::ParentDir | Component::Prefix(_) | Component::RootDir
+        )
+    }) {
+        return Some("leaves the show file's folder (`..`)");
+    }
+    let folder = if base.as_os_str().is_empty() {
+        Path::new(".")
+    } else {
+        base
+    };
+    let (Ok(folder), Ok(real)) = (folder.canonicalize(), path.canonicalize()) else {
+        return None;
+    };
+    (!real.starts_with(&folder)).then_some("leads outside the show file's folder (a symbolic link)")
 }
 
 fn colours(ctx: &mut Ctx, t: Tbl<'_, '_>) -> Option<Vec<[u8; 3]>> {

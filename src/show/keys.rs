@@ -5,7 +5,7 @@
 //! a value outside them is refused where it is written. README's key
 //! reference lists them.
 
-use crate::model::{End, FixedTo, LedDriver, Plane, PropKind};
+use crate::model::{End, FixedTo, Join, LedDriver, Plane, PropKind};
 
 use super::reader::Bounds;
 
@@ -19,6 +19,7 @@ pub(super) const SHOW_KEYS: &[&str] = &[
     "beats_per_bar",
     "start_s",
     "resync_bars",
+    "music",
 ];
 pub(super) const TEMPO_KEYS: &[&str] = &["bar", "bpm"];
 pub(super) const PROP_KEYS: &[&str] = &[
@@ -57,7 +58,13 @@ pub(super) const PATTERN_KEYS: &[&str] = &[
     "hand_start_deg",
     "head_start_deg",
     "reverse",
+    // A trade figure instead of `head_turns`:
+    "figure",
+    "petals",
+    "stall",
 ];
+/// The keys of a `[[section]]` besides the prop names.
+pub(super) const SECTION_KEYS: &[&str] = &["bars", "join"];
 pub(super) const TERM_KEYS: &[&str] = &["radius_m", "turns", "start_deg"];
 pub(super) const PLACEMENT_KEYS: &[&str] = &["pattern", "mirror", "delay_beats"];
 pub(super) const STRIP_KEYS: &[&str] = &["leds", "from_m", "to_m", "end"];
@@ -111,6 +118,26 @@ pub(super) const ENDS: &[(&str, &[End])] = &[
 ];
 pub(super) const FIXED_TO: &[(&str, FixedTo)] =
     &[("stage", FixedTo::Stage), ("hand", FixedTo::Hand)];
+/// The trade's figures (`figure = ...`); petals are read after.
+#[derive(Clone, Copy, PartialEq, Eq, Debug)]
+pub(super) enum FigureName {
+    Extension,
+    Isolation,
+    Inspin,
+    Antispin,
+}
+pub(super) const FIGURES: &[(&str, FigureName)] = &[
+    ("extension", FigureName::Extension),
+    ("isolation", FigureName::Isolation),
+    ("inspin", FigureName::Inspin),
+    ("antispin", FigureName::Antispin),
+];
+/// Section joins.
+pub(super) const JOINS: &[(&str, Join)] =
+    &[("restart", Join::Restart), ("continue", Join::Continue)];
+/// The most petals a figure may ask for (its `head_turns` stays within
+/// [`TURNS`]).
+pub(super) const MAX_PETALS: i64 = 63;
 /// Ways to spread colour along a strip (a chase reads its keys after).
 #[derive(Clone, Copy, PartialEq, Eq)]
 pub(super) enum Spread {

@@ -21,8 +21,8 @@ use std::sync::Arc;
 
 use toml::de::{DeTable, DeValue};
 
-use crate::diag::{Diagnostic, Diagnostics, Source};
-use crate::model::{Show, TempoMap};
+use crate::diag::{Diagnostic, Diagnostics, Source, escape, io_phrase};
+use crate::model::{Music, Show, TempoMap};
 use keys::{BPM, SHOW_KEYS, START_S, TOP_KEYS};
 use reader::{Ctx, Tbl, describe, join};
 
@@ -58,25 +58,49 @@ pub const MAX_STRIPS: usize = 16;
 /// Band width of a chase when `chase_width_leds` is left out, LEDs.
 pub const DEFAULT_CHASE_WIDTH_LEDS: f64 = 4.0;
 
+/// Whether pictures may be read from outside the show file's folder.
+static PICTURES_FROM_ANYWHERE: std::sync::atomic::AtomicBool =
+    std::sync::atomic::AtomicBool::new(false);
+
+/// Lets shows read cue pictures from anywhere (`--allow-outside-pictures`):
+/// absolute paths and paths through `..` or symbolic links out of the show
+/// file's folder. Off by default, and meant for one person's command line:
+/// a program that reads shows sent by others (a server) never turns it on.
+pub fn allow_pictures_from_anywhere(on: bool) {
+    PICTURES_FROM_ANYWHERE.store(on, std::sync::atomic::Ordering::Relaxed);
+}
+
+/// Whether [`allow_pictures_from_anywhere`] is on.
+pub fn pictures_from_anywhere() -> bool {
+    PICTURES_FROM_ANYWHERE.load(std::sync::atomic::Ordering::Relaxed)
+}
+
 /// Reads and validates the show file at `path`. The reader's warnings (the
 /// show's `notes`) are printed to stderr here, so that every command shows
 /// them the same way.
 pub fn load(path: &Path) -> Result<Show, Diagnostics> {
     let name = path.display().to_string();
-    let meta = std::fs::metadata(path)
-        .map_err(|e| Diagnostic::error(format!("cannot read `{name}`: {e}")))?;
+    let cannot = |e: std::io::Error| {
+        Diagnostic::error(format!("cannot read {}: {}", escape(&name), io_phrase(&e)))
+    };
+    let meta = std::fs::metadata(path).map_err(cannot)?;
     if !meta.is_file() {
-        return Err(Diagnostic::error(format!("`{name}` is not a file")).into());
+        let what = if meta.is_dir() {
+            "it is a folder, not a show file"
+        } else {
+            "it is not a plain file"
+        };
+        return Err(Diagnostic::error(format!("cannot read {}: {what}", escape(&name))).into());
     }
     if meta.len() > MAX_FILE_BYTES {
         return Err(Diagnostic::error(format!(
-            "`{name}` is {} bytes; show files larger than {MAX_FILE_BYTES} bytes are refused",
+            "`{}` is {} bytes; show files larger than {MAX_FILE_BYTES} bytes are refused",
+            escape(&name),
             meta.len()
         ))
         .into());
     }
-    let bytes =
-        std::fs::read(path).map_err(|e| Diagnostic::error(format!("cannot read `{name}`: {e}")))?;
+    let bytes = std::fs::read(path).map_err(cannot)?;
     let show = parse_bytes(&name, bytes)?;
     for note in &show.notes {
         eprintln!("{note}");
@@ -220,6 +244,7 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
     let bpm = ctx.required_number(header, "bpm", BPM);
     let beats_per_bar = ctx.integer_in(header, "beats_per_bar", 1..=64).unwrap_or(4) as u32;
     let start_s = ctx.number_in(header, "start_s", START_S).unwrap_or(0.0);
+    let music = music(ctx, header);
 
     let changes = sections::tempo_changes(ctx, root);
     let props = props::props(ctx, root);
@@ -247,6 +272,7 @@ fn build(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Option<Show> {
         title,
         frame_rate_hz: frame_rate? as u32,
         tempo,
+        music: music?,
         props,
         patterns,
         sections,
@@ -289,6 +315,47 @@ fn resync_bars(ctx: &mut Ctx, header: Tbl<'_, '_>, last_bar: u32) -> Vec<u32> {
     bars.sort_unstable();
     bars.dedup();
     bars
+}
+
+/// `[show] music`: the song's file, read from the show file's folder, its
+/// header checked (it exists, is audio glowscore reads, within the limits);
+/// a bad file is an error at the key's value. `Some(None)` without the key.
+fn music(ctx: &mut Ctx, header: Tbl<'_, '_>) -> Option<Option<Music>> {
+    if header.get("music").is_none() {
+        return Some(None);
+    }
+    let (file, span) = ctx.string(header, "music", false)?;
+    let base = Path::new(&ctx.src.name)
+        .parent()
+        .map(Path::to_path_buf)
+        .unwrap_or_default();
+    let path = base.join(&file);
+    let help =
+        "the path is read from the show file's folder; WAV, FLAC, Ogg Vorbis and MP3 are read";
+    if file.trim().is_empty() {
+        ctx.error_help(
+            "show.music",
+            span,
+            "expected the name of a song file, got an empty string",
+            help,
+        );
+        return None;
+    }
+    match crate::music::probe_file(&path) {
+        Ok(_) => Some(Some(Music {
+            file,
+            path,
+            offset: span.start,
+        })),
+        Err(e) => {
+            // The message names the file as the show writes it.
+            let why = e.to_string();
+            let shown = path.display().to_string();
+            let why = why.strip_prefix(&format!("{shown}: ")).unwrap_or(&why);
+            ctx.error_help("show.music", span, format!("`{file}`: {why}"), help);
+            None
+        }
+    }
 }
 
 /// The most turns of the fastest relative rotation, over all props and

@@ -380,6 +380,15 @@ fn check_prop_name(ctx: &mut Ctx, path: &str, name: &str, span: Range<usize>) {
         );
         return;
     }
+    if super::keys::SECTION_KEYS.contains(&name) {
+        ctx.error_help(
+            path,
+            span,
+            format!("a prop cannot be called `{name}`"),
+            "`bars` and `join` are a section's own keys; choose another name",
+        );
+        return;
+    }
     check_name(ctx, path, name, span);
 }
 

@@ -73,12 +73,31 @@ pub fn type_name(v: &DeValue<'_>) -> &'static str {
     }
 }
 
-/// A short rendering of a value for messages.
+/// Characters of a value a message quotes as written; a longer number is
+/// printed in short scientific notation, a longer string cut.
+const QUOTED_CHARS: usize = 24;
+
+/// A short rendering of a value for messages: numbers as written, or in
+/// short scientific notation when long (never 300 digits); strings quoted,
+/// cut after 60 characters.
 pub fn show_value(v: &DeValue<'_>) -> String {
+    let number = |text: &str| {
+        if text.len() <= QUOTED_CHARS {
+            return text.to_string();
+        }
+        match text.replace('_', "").parse::<f64>() {
+            Ok(x) if x.is_finite() => short(x),
+            _ => format!("{}...", &text[..12]),
+        }
+    };
     match v {
+        DeValue::String(s) if s.chars().count() > 60 => {
+            let cut: String = s.chars().take(60).collect();
+            format!("{cut:?}...")
+        }
         DeValue::String(s) => format!("{s:?}"),
-        DeValue::Integer(i) => i.as_str().to_string(),
-        DeValue::Float(f) => f.as_str().to_string(),
+        DeValue::Integer(i) => number(i.as_str()),
+        DeValue::Float(f) => number(f.as_str()),
         DeValue::Boolean(b) => b.to_string(),
         DeValue::Datetime(d) => d.to_string(),
         DeValue::Array(_) => "an array".into(),

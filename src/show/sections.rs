@@ -10,7 +10,7 @@ use super::keys::*;
 use super::reader::{Ctx, Tbl, Val, describe, join, list};
 use super::{Declared, MAX_BAR, table_array};
 use crate::diag::did_you_mean;
-use crate::model::{Pattern, Placement, Prop, Section};
+use crate::model::{Join, Pattern, Placement, Prop, Section, stall_radius_m};
 
 /// The tempo changes of `[[tempo]]`, sorted by bar.
 pub(super) fn tempo_changes(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<(u32, f64)> {
@@ -43,6 +43,10 @@ pub(super) fn tempo_changes(ctx: &mut Ctx, root: Tbl<'_, '_>) -> Vec<(u32, f64)>
     changes.into_iter().map(|(b, bpm, _)| (b, bpm)).collect()
 }
 
+/// A section as read, with the span of its `bars`, and its `join`'s key
+/// path and span.
+type Read = (Section, Range<usize>, (String, Range<usize>));
+
 /// The sections of `[[section]]`, sorted by bar.
 pub(super) fn sections(
     ctx: &mut Ctx,
@@ -67,9 +71,9 @@ pub(super) fn sections(
         .enumerate()
         .map(|(i, p)| (p.name.as_str(), i))
         .collect();
-    let mut keys = vec!["bars"];
+    let mut keys = SECTION_KEYS.to_vec();
     keys.extend(prop_names.iter().copied());
-    let mut out: Vec<(Section, Range<usize>)> = Vec::new();
+    let mut out: Vec<Read> = Vec::new();
     for (path, table, span) in table_array(ctx, root, "section") {
         let t = Tbl {
             path: &path,
@@ -77,10 +81,13 @@ pub(super) fn sections(
             at: (span.start, span.end),
         };
         let bars = ctx.bar_range(t, "bars", MAX_BAR);
+        let how = ctx
+            .choice(t, "join", "join", JOINS, Some(Join::Restart))
+            .unwrap_or_default();
         let mut placements = vec![None; props.len()];
         for (k, v) in table.iter() {
             let key: &str = k.get_ref();
-            if key == "bars" {
+            if SECTION_KEYS.contains(&key) {
                 continue;
             }
             let kpath = join(&path, key);
@@ -92,12 +99,18 @@ pub(super) fn sections(
                 }
                 let help = match did_you_mean(key, keys.iter().copied()) {
                     Some(s) => format!("did you mean `{s}`?"),
-                    None => format!("a section takes `bars` and prop names: {}", list(&keys)),
+                    None => format!(
+                        "a section takes `bars`, `join` and prop names: {}",
+                        list(&keys)
+                    ),
                 };
                 ctx.error_help(&kpath, k.span(), format!("`{key}` is not a prop"), help);
                 continue;
             };
             placements[prop] = placement(ctx, &kpath, v, &known);
+            if let Some(pl) = placements[prop] {
+                check_stall(ctx, &kpath, v.span(), &props[prop], &patterns[pl.pattern]);
+            }
         }
         if let Some((first_bar, last_bar, bspan)) = bars {
             out.push((
@@ -106,8 +119,13 @@ pub(super) fn sections(
                     first_bar,
                     last_bar,
                     placements,
+                    join: how,
                 },
                 bspan,
+                (
+                    t.key_path("join"),
+                    t.get("join").map_or(span.clone(), |v| v.span()),
+                ),
             ));
         }
     }
@@ -125,6 +143,16 @@ pub(super) fn sections(
                 ),
             );
         }
+    }
+    if let Some((first, _, (join_path, join_span))) = out.first()
+        && first.join == Join::Continue
+    {
+        ctx.error_help(
+            join_path,
+            join_span.clone(),
+            "the first section has no section before it to continue from",
+            "remove `join` here: the show starts each prop where its first pattern starts",
+        );
     }
     if out.is_empty() && !ctx.diags.has_errors() {
         ctx.error_help(
@@ -188,5 +216,28 @@ fn placement(ctx: &mut Ctx, path: &str, v: &Val<'_>, patterns: &Patterns<'_>) ->
             );
             None
         }
+    }
+}
+
+/// Refuses a stall whose hand circle (`tether_m * |head_turns|` of the prop
+/// that plays it) would be larger than any `hand_radius_m` may be.
+fn check_stall(ctx: &mut Ctx, path: &str, span: Range<usize>, prop: &Prop, pattern: &Pattern) {
+    if !pattern.stall {
+        return;
+    }
+    let r = stall_radius_m(prop.tether_m, pattern.head_turns);
+    if !RADIUS_M.contains(r) {
+        ctx.error_help(
+            path,
+            span,
+            format!(
+                "`{}` is a stall: on `{}` it needs `hand_radius_m = {r}` (tether_m {} x {}), more than a hand radius may be",
+                pattern.name,
+                prop.name,
+                prop.tether_m,
+                pattern.head_turns.abs()
+            ),
+            format!("a hand radius is {}: give this prop fewer petals or a shorter tether", RADIUS_M.describe()),
+        );
     }
 }

@@ -2,12 +2,9 @@
 //! docs/conventions.md ("Check JSON") fixes, the text report's
 //! cautions, and byte-for-byte repeatable output.
 
+use crate::common::cli;
 use std::path::PathBuf;
-use std::process::{Command, Output};
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_glowscore"))
-}
+use std::process::Output;
 
 fn write(name: &str, text: &str) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("glowscore-check-{}", std::process::id()));
@@ -18,7 +15,7 @@ fn write(name: &str, text: &str) -> PathBuf {
 }
 
 fn run(args: &[&str]) -> Output {
-    bin().args(args).output().unwrap()
+    cli().args(args).output().unwrap()
 }
 
 /// A fast, taut wall circle: no warnings. With `slow`, the head goes slack.

@@ -378,7 +378,7 @@ fn absurd_work_is_refused_before_it_starts() {
     let show = painted(&text, pic, placement([0.0, 0.0], 1.0, FixedTo::Stage));
     let started = std::time::Instant::now();
     match check_show(&show) {
-        Err(Failure::Check(CheckError::TooMuchPainting { cue, tests })) => {
+        Err(Failure::Check(CheckError::TooMuchPainting { cue, tests, .. })) => {
             assert_eq!(cue, 0);
             assert!(tests > glowscore::check::coverage::MAX_TEXEL_TESTS);
         }
@@ -390,7 +390,7 @@ fn absurd_work_is_refused_before_it_starts() {
     // light figures alone: refused for that, before anything else.
     let fast = text.replace("frame_rate = 500", "frame_rate = 100000");
     match check_show(&common::show(&fast)) {
-        Err(Failure::Prepare(PrepareError::TooManyFrames { led_frames })) => {
+        Err(Failure::Prepare(PrepareError::TooManyFrames { led_frames, .. })) => {
             assert!((led_frames - 4000.0 * 100_000.0 * 128.0).abs() < 1.0);
         }
         other => panic!("expected a refusal, got {other:?}"),

@@ -20,7 +20,7 @@ use crate::common;
 
 use std::f64::consts::PI;
 
-use common::check_show;
+use common::{check_show, close};
 use glowscore::check::{CheckReport, WarningKind};
 use glowscore::colour::LUMINANCE_COEFFICIENTS;
 use glowscore::power::{brightness_scale, frame_current_a};
@@ -71,14 +71,6 @@ fn count(r: &CheckReport, kind: WarningKind) -> usize {
         .filter(|w| w.kind == kind)
         .map(|w| w.count)
         .sum()
-}
-
-fn close(got: f64, want: f64, tol: f64, what: &str) {
-    assert!(
-        (got - want).abs() <= tol,
-        "{what}: got {got}, want {want} (off by {:e})",
-        (got - want).abs()
-    );
 }
 
 #[test]

@@ -12,7 +12,7 @@ use crate::common;
 
 use std::f64::consts::{PI, TAU};
 
-use common::check_show;
+use common::{check_show, close};
 use glowscore::check::tension::G0;
 use glowscore::check::{CheckReport, WarningKind};
 use glowscore::num;
@@ -43,14 +43,6 @@ p = "x"
 
 fn report(text: &str) -> CheckReport {
     check_show(&common::show(text)).expect("within the budget")
-}
-
-fn close(got: f64, want: f64, tol: f64, what: &str) {
-    assert!(
-        (got - want).abs() <= tol,
-        "{what}: got {got}, want {want} (off by {:e})",
-        (got - want).abs()
-    );
 }
 
 fn count(r: &CheckReport, kind: WarningKind) -> usize {

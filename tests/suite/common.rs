@@ -10,6 +10,32 @@ use glowscore::commands::Failure;
 use glowscore::model::Show;
 use glowscore::prepared::Prepared;
 
+/// Asserts `|got - want| <= tol`, naming `what` and the miss.
+#[track_caller]
+pub fn close(got: f64, want: f64, tol: f64, what: &str) {
+    assert!(
+        (got - want).abs() <= tol,
+        "{what}: got {got}, want {want} (off by {:e})",
+        (got - want).abs()
+    );
+}
+
+/// The `glowscore` binary this test build made.
+pub fn cli() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_glowscore"))
+}
+
+/// An empty scratch folder `group/name` under the test build's temporary
+/// folder (emptied if an earlier run left it).
+pub fn scratch(group: &str, name: &str) -> PathBuf {
+    let d = Path::new(env!("CARGO_TARGET_TMPDIR"))
+        .join(group)
+        .join(name);
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).expect("scratch folder");
+    d
+}
+
 /// Builds the reference decoder's driver (`firmware-formats/test_decode.c`
 /// and `glowscore_table.c`) into `out` with the system C compiler, strictly:
 /// `cc -std=c99 -Wall -Wextra -Werror -pedantic`, plus `extra` flags.
@@ -52,9 +78,12 @@ pub fn decoder() -> &'static Path {
 }
 
 /// A show from TOML text; panics with the diagnostics if it is invalid.
+/// It is read as if from the test target's temporary folder, so that the
+/// pictures the tests write there are inside the show's folder.
 #[track_caller]
 pub fn show(text: &str) -> Show {
-    match glowscore::show::parse("test.toml", text.to_string()) {
+    let name = Path::new(env!("CARGO_TARGET_TMPDIR")).join("test.toml");
+    match glowscore::show::parse(&name.display().to_string(), text.to_string()) {
         Ok(s) => s,
         Err(d) => panic!("show did not parse:\n{d}"),
     }

@@ -7,21 +7,12 @@ use crate::common;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-fn bin() -> &'static str {
-    env!("CARGO_BIN_EXE_glowscore")
-}
-
 fn tmp(name: &str) -> PathBuf {
-    let d = Path::new(env!("CARGO_TARGET_TMPDIR"))
-        .join("compile")
-        .join(name);
-    let _ = std::fs::remove_dir_all(&d);
-    std::fs::create_dir_all(&d).unwrap();
-    d
+    common::scratch("compile", name)
 }
 
 fn compile(show: &Path, out: &Path) -> std::process::Output {
-    Command::new(bin())
+    common::cli()
         .arg("compile")
         .arg(show)
         .arg("--out")
@@ -270,7 +261,7 @@ fn compiling_twice_gives_the_same_bytes() {
     let show = root.join("shows/moth-garden.toml");
     let (a, b) = (tmp("twice-a"), tmp("twice-b"));
     for d in [&a, &b] {
-        let st = Command::new(bin())
+        let st = common::cli()
             .arg("compile")
             .arg(&show)
             .arg("--out")

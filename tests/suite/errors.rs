@@ -108,7 +108,7 @@ fn a_show_path_that_is_not_a_file_is_refused() {
     // A folder (and a named pipe alike) is refused before reading.
     let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR"));
     let err = glowscore::show::load(dir).unwrap_err().to_string();
-    assert!(err.contains("is not a file"), "{err}");
+    assert!(err.contains("it is a folder, not a show file"), "{err}");
 }
 
 #[test]

@@ -7,7 +7,7 @@
 //! BeatRoot", JNMR 2007; the MIREX audio beat-tracking task).
 
 use glowscore::music::synth::{SongSpec, click_track, song};
-use glowscore::music::{Audio, MusicError, Options, analyse, decode_file};
+use glowscore::music::{Audio, BeatError, MusicError, Options, analyse, decode_file};
 
 /// F-measure of `found` against `truth` with a +-`window` s tolerance, each
 /// true beat matched at most once (Dixon 2007).
@@ -134,7 +134,7 @@ fn silence_and_noise_have_no_steady_beat() {
     let silent = audio(vec![0.0; 22_050 * 8], 22_050);
     assert!(matches!(
         analyse(&silent, &Options::default()),
-        Err(MusicError::NoSteadyBeat(_))
+        Err(BeatError::NoSteadyBeat(_))
     ));
     // White noise from a linear congruential generator (Knuth, TAOCP vol. 2).
     let mut x: u64 = 1;
@@ -147,7 +147,7 @@ fn silence_and_noise_have_no_steady_beat() {
         })
         .collect();
     let r = analyse(&audio(noise, 22_050), &Options::default());
-    assert!(matches!(r, Err(MusicError::NoSteadyBeat(_))), "{r:?}");
+    assert!(matches!(r, Err(BeatError::NoSteadyBeat(_))), "{r:?}");
 }
 
 fn write_wav(path: &std::path::Path, samples: &[f32], rate: u32, channels: u16) {
@@ -187,12 +187,16 @@ fn wav_decodes_and_bad_files_are_refused() {
     let cut = dir.join("cut.wav");
     std::fs::write(&cut, &bytes[..bytes.len() / 2]).unwrap();
     let e = decode_file(&cut).expect_err("truncated");
+    assert!(matches!(e, MusicError::Truncated { .. }), "{e:?}");
+    let e = e.to_string();
     assert!(e.contains("cut.wav") && e.contains("truncated"), "{e}");
     // Not audio at all.
     let text = dir.join("notes.wav");
     std::fs::write(&text, "just some words, not a song").unwrap();
     let e = decode_file(&text).expect_err("not audio");
-    assert!(e.contains("notes.wav"), "{e}");
+    assert!(matches!(e, MusicError::NotAudio { .. }), "{e:?}");
+    assert_eq!(e.file(), text.as_path());
+    assert!(e.to_string().contains("notes.wav"), "{e}");
     let _ = std::fs::remove_dir_all(&dir);
 }
 
@@ -221,4 +225,50 @@ fn rehearsal_track_keeps_its_levels() {
         glowscore::commands::rehearse::run(&show, &out, Some("nobody"), None).expect_err("no prop");
     assert!(e.to_string().contains("nobody"), "{e}");
     let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// The fixtures' song: four bars at 120 bpm from 0.5 s, 16 kHz mono, as
+/// `examples/fixture_song.rs` writes it (the same numbers).
+fn fixture_spec() -> SongSpec {
+    SongSpec {
+        rate: 16_000,
+        beats_per_bar: 4,
+        bars: 4,
+        tempo: vec![(1, 120.0)],
+        start_s: 0.5,
+        swing: 0.0,
+        humanise_ms: 0.0,
+        seed: 41,
+    }
+}
+
+#[test]
+fn ogg_vorbis_and_mp3_fixtures_decode_and_keep_their_beat() {
+    // tests/fixtures/music/: the fixture song encoded by oggenc and lame
+    // (see the README there). Both codecs are lossy, so the samples are
+    // not compared; the length (10 s: the generator's last beat at 8 s plus
+    // its 2 s tail) and the beats are.
+    let truth = song(&fixture_spec());
+    let length = truth.samples.len() as f64 / 16_000.0;
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/music");
+    for (name, rate) in [("fixture-song.ogg", 16_000), ("fixture-song.mp3", 32_000)] {
+        let a = decode_file(&dir.join(name)).unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!((a.rate, a.channels), (rate, 1), "{name}");
+        // Within 5 ms of the true length: the MP3 encoder's delay and
+        // padding (over 1500 samples) are trimmed by its gapless header.
+        assert!(
+            (a.duration_s() - length).abs() < 0.005,
+            "{name}: {} s",
+            a.duration_s()
+        );
+        let r = analyse(&a, &Options::default()).unwrap_or_else(|e| panic!("{name}: {e}"));
+        let f = f_measure(&r.beats, &truth.beats, 0.070);
+        assert!(f >= 0.95, "{name}: F-measure {f}");
+        assert!((r.bpm / 120.0 - 1.0).abs() < 0.003, "{name}: bpm {}", r.bpm);
+        assert!(
+            (r.start_s - 0.5).abs() < 0.040,
+            "{name}: bar 1 at {}",
+            r.start_s
+        );
+    }
 }

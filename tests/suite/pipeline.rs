@@ -3,12 +3,8 @@
 //! and the same pixels. The show has what used to make them disagree: a
 //! prop dimmed by `brightness_limit`, a mirrored prop and a painting.
 
+use crate::common::cli;
 use std::path::{Path, PathBuf};
-use std::process::Command;
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_glowscore"))
-}
 
 fn folder(name: &str) -> PathBuf {
     let dir =
@@ -101,7 +97,7 @@ fn compile_check_and_preview_agree_on_a_dimmed_mirrored_painted_show() {
     let dir = folder("agree");
     let show = write_show(&dir);
     let out = dir.join("out");
-    let compiled = bin()
+    let compiled = cli()
         .args([
             "compile",
             show.to_str().unwrap(),
@@ -115,7 +111,7 @@ fn compile_check_and_preview_agree_on_a_dimmed_mirrored_painted_show() {
         "{}",
         String::from_utf8_lossy(&compiled.stderr)
     );
-    let checked = bin()
+    let checked = cli()
         .args(["check", show.to_str().unwrap(), "--json"])
         .output()
         .unwrap();
@@ -154,7 +150,7 @@ fn compile_check_and_preview_agree_on_a_dimmed_mirrored_painted_show() {
 
     // The preview command draws what compile drew.
     let picture = dir.join("preview.png");
-    let previewed = bin()
+    let previewed = cli()
         .args([
             "preview",
             show.to_str().unwrap(),
@@ -200,7 +196,7 @@ fn repeated_warnings_are_grouped_and_point_at_their_show_line() {
     // `[[section]]` that plays it.
     let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/salt-marsh-reel.toml");
     let text = std::fs::read_to_string(&path).unwrap();
-    let out = bin()
+    let out = cli()
         .args(["check", path.to_str().unwrap(), "--json"])
         .output()
         .unwrap();
@@ -241,7 +237,7 @@ fn cautions_follow_the_show() {
     // A staff and a strip bring cautions of their own: the staff's reach, and
     // the strip's peak current (the figure the report gives).
     let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/eelgrass-lanterns.toml");
-    let out = bin()
+    let out = cli()
         .args(["check", path.to_str().unwrap(), "--json"])
         .output()
         .unwrap();
@@ -266,7 +262,7 @@ fn cautions_follow_the_show() {
     );
     // A poi show has no staff caution but names its peak tension.
     let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/moth-garden.toml");
-    let out = bin()
+    let out = cli()
         .args(["check", path.to_str().unwrap(), "--json"])
         .output()
         .unwrap();
@@ -328,7 +324,7 @@ fn a_cue_hidden_by_a_later_one_warns_and_counts_only_what_plays() {
     let check = |text: &str| -> serde_json::Value {
         let path = dir.join("overlap.toml");
         std::fs::write(&path, text).unwrap();
-        let out = bin()
+        let out = cli()
             .args(["check", path.to_str().unwrap(), "--json"])
             .output()
             .unwrap();
@@ -375,7 +371,7 @@ fn events_filter_by_prop_kind_and_bars_and_stop_quietly_on_a_closed_pipe() {
     let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("shows/moth-garden.toml");
     let p = path.to_str().unwrap();
     let events = |extra: &[&str]| -> Vec<serde_json::Value> {
-        let out = bin()
+        let out = cli()
             .args(["events", p, "--json"])
             .args(extra)
             .output()
@@ -398,7 +394,7 @@ fn events_filter_by_prop_kind_and_bars_and_stop_quietly_on_a_closed_pipe() {
         .collect();
     assert!(!expected.is_empty());
     assert_eq!(some, expected);
-    let bad = bin()
+    let bad = cli()
         .args(["events", p, "--kind", "petal"])
         .output()
         .unwrap();
@@ -407,7 +403,7 @@ fn events_filter_by_prop_kind_and_bars_and_stop_quietly_on_a_closed_pipe() {
     // A reader that stops early, on a show whose events fill more than a
     // pipe holds (about 200 kB of text): no error, success.
     let long = Path::new(env!("CARGO_MANIFEST_DIR")).join("benches/fixtures/four-minutes.toml");
-    let mut child = bin()
+    let mut child = cli()
         .args(["events", long.to_str().unwrap()])
         .stdout(std::process::Stdio::piped())
         .stderr(std::process::Stdio::piped())
@@ -433,7 +429,7 @@ fn the_output_folder_keeps_one_set_of_files() {
     let show = write_show(&dir);
     let out = dir.join("out");
     let compile = |show: &Path| {
-        bin()
+        cli()
             .args([
                 "compile",
                 show.to_str().unwrap(),
@@ -448,6 +444,7 @@ fn the_output_folder_keeps_one_set_of_files() {
     // A file of the maker's own and a staging folder of a run killed earlier.
     std::fs::write(out.join("notes.txt"), "mine").unwrap();
     std::fs::create_dir_all(out.join(".glowscore-staging-999999/x")).unwrap();
+    std::fs::create_dir_all(dir.join(".out.glowscore-staging-999998/y")).unwrap();
     // Prop `b` is renamed `b2`: its old files go, the new ones come.
     let renamed = dir.join("renamed.toml");
     let text = std::fs::read_to_string(&show)
@@ -488,6 +485,7 @@ fn the_output_folder_keeps_one_set_of_files() {
         !names.iter().any(|n| n.starts_with(".glowscore-staging")),
         "{names:?}"
     );
+    assert!(!dir.join(".out.glowscore-staging-999998").exists());
     let manifest = std::fs::read_to_string(out.join(MANIFEST_FILE)).unwrap();
     assert!(manifest.lines().any(|l| l == "b2.csv") && !manifest.contains("notes.txt"));
     // While a compile holds the folder, another is refused and changes
@@ -518,7 +516,7 @@ fn the_demos_expect_their_warnings_and_pass_deny_warnings() {
         if path.extension().is_none_or(|e| e != "toml") {
             continue;
         }
-        let out = bin()
+        let out = cli()
             .args(["check", path.to_str().unwrap(), "--deny-warnings", "--json"])
             .output()
             .unwrap();
@@ -542,7 +540,7 @@ fn the_demos_expect_their_warnings_and_pass_deny_warnings() {
     let dir = folder("expected");
     let bare = dir.join("bare.toml");
     std::fs::write(&bare, &text[..cut]).unwrap();
-    let out = bin()
+    let out = cli()
         .args(["check", bare.to_str().unwrap(), "--deny-warnings"])
         .output()
         .unwrap();

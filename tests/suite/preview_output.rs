@@ -9,9 +9,9 @@
 //! pixel is named.
 
 use crate::common;
+use crate::common::cli;
 
 use std::path::{Path, PathBuf};
-use std::process::Command;
 
 use glowscore::geom::Vec3;
 use glowscore::prepared::Prepared;
@@ -254,10 +254,6 @@ fn golden_fixed_viewport_half_a_bar_two_stops_over() {
     check_golden("viewport-half-bar-ev2", &render(&o));
 }
 
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_glowscore"))
-}
-
 fn tmp(name: &str) -> PathBuf {
     let d = Path::new(env!("CARGO_TARGET_TMPDIR")).join("preview-cli");
     std::fs::create_dir_all(&d).unwrap();
@@ -271,7 +267,7 @@ fn moth() -> String {
 #[test]
 fn cli_accepts_values_that_begin_with_a_minus() {
     let out = tmp("minus.png");
-    let st = bin()
+    let st = cli()
         .args(["preview", &moth(), "--out"])
         .arg(&out)
         .args([
@@ -293,7 +289,7 @@ fn cli_accepts_values_that_begin_with_a_minus() {
     // The viewport is for orthographic views: with --camera it is refused as
     // a failed run (1), after parsing every value that starts with '-'.
     assert_eq!(st.status.code(), Some(1), "{st:?}");
-    let st = bin()
+    let st = cli()
         .args(["preview", &moth(), "--out"])
         .arg(&out)
         .args([
@@ -325,7 +321,7 @@ fn cli_usage_errors_exit_2_and_failures_leave_the_old_picture() {
         vec!["--bars", "4-2"],
         vec!["--look-at", "0,1,0"],
     ] {
-        let st = bin()
+        let st = cli()
             .args(["preview", &moth(), "--out"])
             .arg(&out)
             .args(&bad)
@@ -338,7 +334,7 @@ fn cli_usage_errors_exit_2_and_failures_leave_the_old_picture() {
         vec!["--start-s", "100"],
         vec!["--exposure-s", "0"],
     ] {
-        let st = bin()
+        let st = cli()
             .args(["preview", &moth(), "--out"])
             .arg(&out)
             .args(&bad)

@@ -21,20 +21,12 @@ use crate::common;
 
 use std::f64::consts::{PI, TAU};
 
-use common::check_show;
+use common::{check_show, close};
 use glowscore::check::kin::{Kin, end_curves};
 use glowscore::check::tension::G0;
 use glowscore::check::{CheckReport, WarningKind};
 use glowscore::model::Show;
 use glowscore::motion::PropMotion;
-
-fn close(got: f64, want: f64, tol: f64, what: &str) {
-    assert!(
-        (got - want).abs() <= tol,
-        "{what}: got {got}, want {want} (off by {:e})",
-        (got - want).abs()
-    );
-}
 
 fn report(text: &str) -> CheckReport {
     check_show(&common::show(text)).expect("within the budget")
@@ -451,8 +443,8 @@ s = "b"
         "tail chord",
     );
     let msg = &jumps[0].message;
-    assert!(msg.contains("the tail end jumps 1.273 m"), "{msg}");
-    assert!(msg.contains("the head end jumps 0.424 m"), "{msg}");
+    assert!(msg.contains("the tail end jumps 1272.8 mm"), "{msg}");
+    assert!(msg.contains("the head end jumps 424.3 mm"), "{msg}");
 }
 
 /// Two props with halves of 0.5 m, both plain spins starting at 12 o'clock:

@@ -33,12 +33,7 @@ fn frame(show: &Show, pl: &PropLights, k: u64) -> Vec<[u8; 3]> {
 
 /// A folder of its own under the test target's temporary folder.
 fn tmp(name: &str) -> PathBuf {
-    let d = Path::new(env!("CARGO_TARGET_TMPDIR"))
-        .join("strips")
-        .join(name);
-    let _ = std::fs::remove_dir_all(&d);
-    std::fs::create_dir_all(&d).unwrap();
-    d
+    common::scratch("strips", name)
 }
 
 /// A show at 60 bpm (one beat a second), 4 beats a bar, `rate` frames a
