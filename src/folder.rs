@@ -117,10 +117,20 @@ impl Folder {
             .write(true)
             .open(&lock_path)
             .map_err(io(&lock_path))?;
-        match lock.try_lock() {
-            Ok(()) => {}
-            Err(fs::TryLockError::WouldBlock) => return Err(FolderError::Busy { dir }),
-            Err(fs::TryLockError::Error(e)) => return Err(io(&lock_path)(e)),
+        // A lock just released can linger for an instant (a child process
+        // forked elsewhere holds a copy of the descriptor until it starts
+        // its program), so a busy folder is asked again for half a second.
+        let mut tries = 0;
+        loop {
+            match lock.try_lock() {
+                Ok(()) => break,
+                Err(fs::TryLockError::WouldBlock) if tries < 10 => {
+                    tries += 1;
+                    std::thread::sleep(std::time::Duration::from_millis(50));
+                }
+                Err(fs::TryLockError::WouldBlock) => return Err(FolderError::Busy { dir }),
+                Err(fs::TryLockError::Error(e)) => return Err(io(&lock_path)(e)),
+            }
         }
         // Staging folders of interrupted runs: inside DIR (as earlier
         // versions made them) and beside it.

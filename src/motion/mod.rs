@@ -103,12 +103,6 @@ impl Span {
         self.up * p[0] + self.right * p[1]
     }
 
-    /// The tether (or rod) term: grip to head end, in phase (its radius is
-    /// the tether length).
-    pub fn tether(&self) -> Rotor {
-        self.tether
-    }
-
     /// The anchor, stage coordinates, metres.
     pub fn anchor(&self) -> Vec3 {
         self.anchor

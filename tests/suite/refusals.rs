@@ -214,6 +214,7 @@ fn a_full_disk_names_the_file_and_says_so() {
         },
         prop: "left",
         header_form: TableForm::Compact,
+        program: &[],
         skip: &[],
     };
     let block = vec![[7u8, 8, 9]; 300 * 100];
