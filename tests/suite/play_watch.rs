@@ -155,7 +155,7 @@ fn an_error_keeps_the_last_show_and_a_fix_reloads() {
 
     // A save with an error: the located error, and the old show stays.
     let bad = retitled("Broken").replace("tether_m = 0.55", "tether_m = -3");
-    std::fs::write(&show, bad).unwrap();
+    std::fs::write(&show, &bad).unwrap();
     let e = ev.next();
     assert_eq!(e.name, "errors", "{e:?}");
     let text: serde_json::Value = serde_json::from_str(&e.data).unwrap();
@@ -164,7 +164,14 @@ fn an_error_keeps_the_last_show_and_a_fix_reloads() {
         text.contains("show.toml") && text.contains("tether_m"),
         "{text}"
     );
-    assert!(text.contains(":24:"), "the error names its line: {text}");
+    let line = 1 + bad
+        .lines()
+        .position(|l| l.contains("tether_m = -3"))
+        .expect("the broken line");
+    assert!(
+        text.contains(&format!(":{line}:")),
+        "the error names its line ({line}): {text}"
+    );
     let (status, page) = get(&server.addr, "/", &server.addr);
     assert!(status.contains("200"), "{status}");
     assert!(
