@@ -1,7 +1,7 @@
 //! `glowscore preview`: a long-exposure picture of a passage, as a PNG or a JPEG.
 
-use std::fs::{self, File};
-use std::io::{BufWriter, IsTerminal, Write};
+use std::fs;
+use std::io::{IsTerminal, Write};
 use std::path::Path;
 use std::time::{Duration, Instant};
 
@@ -97,30 +97,16 @@ pub fn write_picture(path: &Path, img: &RgbImage, format: PictureFormat) -> Resu
     if format == PictureFormat::Png {
         return Ok(preview::write_png_atomic(path, img)?);
     }
-    let name = path
-        .file_name()
-        .ok_or_else(|| io(std::io::Error::other("not a file name")))?
-        .to_string_lossy()
-        .into_owned();
-    let tmp = path.with_file_name(format!(".{name}.{}.tmp", std::process::id()));
-    let result = (|| {
-        let mut w = BufWriter::new(File::create(&tmp).map_err(io)?);
-        JpegEncoder::new_with_quality(&mut w, JPEG_QUALITY)
+    Ok(preview::png::write_atomic(path, &mut |w| {
+        JpegEncoder::new_with_quality(w, JPEG_QUALITY)
             .write_image(
                 img.as_raw(),
                 img.width(),
                 img.height(),
                 ExtendedColorType::Rgb8,
             )
-            .map_err(|e| io(std::io::Error::other(e)))?;
-        let file = w.into_inner().map_err(|e| io(e.into_error()))?;
-        file.sync_all().map_err(io)?;
-        fs::rename(&tmp, path).map_err(io)
-    })();
-    if result.is_err() {
-        let _ = fs::remove_file(&tmp);
-    }
-    Ok(result?)
+            .map_err(PreviewError::from)
+    })?)
 }
 
 /// Renders the preview of the show at `show` with `opts` and writes it to

@@ -25,6 +25,16 @@ pub fn encode_png(img: &RgbImage, out: &mut dyn Write) -> Result<(), PreviewErro
 /// directory, then renamed over `path`, so a failure never leaves a
 /// half-written picture (and an earlier one stays as it was).
 pub fn write_png_atomic(path: &Path, img: &RgbImage) -> Result<(), PreviewError> {
+    write_atomic(path, &mut |w| encode_png(img, w))
+}
+
+/// Writes what `encode` writes to `path` atomically: into a temporary file
+/// beside it, flushed to the disk, then renamed over `path`; the temporary
+/// file is removed on failure.
+pub fn write_atomic(
+    path: &Path,
+    encode: &mut dyn FnMut(&mut dyn Write) -> Result<(), PreviewError>,
+) -> Result<(), PreviewError> {
     let io = |source: std::io::Error| PreviewError::Io {
         path: path.to_path_buf(),
         source,
@@ -38,7 +48,7 @@ pub fn write_png_atomic(path: &Path, img: &RgbImage) -> Result<(), PreviewError>
     let result = (|| {
         let file = File::create(&tmp).map_err(io)?;
         let mut w = BufWriter::new(file);
-        encode_png(img, &mut w)?;
+        encode(&mut w)?;
         let file = w.into_inner().map_err(|e| io(e.into_error()))?;
         file.sync_all().map_err(io)?;
         fs::rename(&tmp, path).map_err(io)
