@@ -461,6 +461,9 @@ struct Setup {
     glows: Vec<f64>,
     /// One pixel, metres, at the finest scale of the picture.
     px_m: f64,
+    /// Whether an orthographic picture is drawn by deposit and blur
+    /// (module `blur`) rather than a kernel per point.
+    deposit: bool,
 }
 
 impl Setup {
@@ -497,7 +500,30 @@ impl Setup {
             cam,
             glows: show.props.iter().map(glow_sigma_m).collect(),
             px_m: 1.0 / sx.max(sy),
-        })
+            deposit: false,
+        }
+        .with_sensor_for(show, (t0, t1)))
+    }
+
+    /// Chooses the sensor for the window `(t0, t1)` from what the show
+    /// says before any point is made (a point per frame per place of LEDs),
+    /// so that every command draws the same window the same way.
+    fn with_sensor_for(mut self, show: &Show, (t0, t1): (f64, f64)) -> Setup {
+        let frames = ((t1 - t0).max(0.0) * f64::from(show.frame_rate_hz)).ceil();
+        let spots: usize = show.props.iter().map(|p| trail::spots(p).len()).sum();
+        self.deposit = self.deposit_pays((frames * spots as f64) as u64);
+        self
+    }
+
+    /// Whether deposit and blur costs less than a kernel per point for
+    /// `points` points: a kernel adds about (8 sigma)^2 pixels per point,
+    /// the blur about 16 sigma per pixel of the picture (at the widest glow).
+    fn deposit_pays(&self, points: u64) -> bool {
+        let glow = self.glows.iter().copied().fold(0.0, f64::max);
+        let sigma = (glow / self.px_m).hypot(splat::MIN_BLUR_PX);
+        let side = 2.0 * splat::KERNEL_SIGMAS * sigma + 1.0;
+        let pixels = f64::from(self.cam.width) * f64::from(self.cam.height);
+        points as f64 * side * side > pixels * 2.0 * side
     }
 
     /// The largest distance an LED of prop `p` moves within one point of
@@ -526,7 +552,10 @@ impl Setup {
         // Orthographic views deposit each point and blur once per glow
         // width (module `blur`); a pinhole's glows change with depth, so
         // each point gets its own kernel.
-        let mut deposits = cam.viewport().map(|_| blur::Deposits::new(w, h));
+        let mut deposits = cam
+            .viewport()
+            .filter(|_| self.deposit)
+            .map(|_| blur::Deposits::new(w, h));
         let mut groups: Vec<Option<usize>> = vec![None; self.glows.len()];
         let made = trail::for_each_chunk(
             show,
