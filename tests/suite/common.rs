@@ -36,11 +36,15 @@ pub fn scratch(group: &str, name: &str) -> PathBuf {
     d
 }
 
-/// Builds the reference decoder's driver (`firmware-formats/test_decode.c`
-/// and `glowscore_table.c`) into `out` with the system C compiler, strictly:
-/// `cc -std=c99 -Wall -Wextra -Werror -pedantic`, plus `extra` flags.
-pub fn build_decoder(out: &Path, extra: &[&str]) {
-    let fw = Path::new(env!("CARGO_MANIFEST_DIR")).join("firmware-formats");
+/// The repository's `firmware-formats` folder.
+pub fn firmware_formats() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("firmware-formats")
+}
+
+/// Compiles the C99 `sources` (with `firmware-formats` on the include
+/// path) into `out` with the system C compiler, strictly:
+/// `cc -std=c99 -Wall -Wextra -Werror -pedantic -O1`, plus `extra` flags.
+pub fn build_c(out: &Path, sources: &[PathBuf], extra: &[&str]) {
     let status = Command::new("cc")
         .args([
             "-std=c99",
@@ -51,16 +55,23 @@ pub fn build_decoder(out: &Path, extra: &[&str]) {
             "-O1",
         ])
         .arg("-I")
-        .arg(&fw)
+        .arg(firmware_formats())
         .args(extra)
         .arg("-o")
         .arg(out)
-        .arg(fw.join("test_decode.c"))
-        .arg(fw.join("glowscore_table.c"))
-        .arg(fw.join("glowscore_program.c"))
+        .args(sources)
         .status()
         .expect("run the system C compiler `cc`");
     assert!(status.success(), "cc failed for {}", out.display());
+}
+
+/// Builds the reference decoder's driver (`firmware-formats/test_decode.c`,
+/// `glowscore_table.c` and `glowscore_program.c`) into `out` with
+/// [`build_c`], plus `extra` flags.
+pub fn build_decoder(out: &Path, extra: &[&str]) {
+    let fw = firmware_formats();
+    let sources = ["test_decode.c", "glowscore_table.c", "glowscore_program.c"].map(|f| fw.join(f));
+    build_c(out, &sources, extra);
 }
 
 /// The reference decoder's driver, built once per test binary.

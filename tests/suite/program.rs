@@ -225,26 +225,9 @@ fn harness() -> &'static Path {
         let dir = tmp("harness");
         let src = dir.join("harness.c");
         std::fs::write(&src, HARNESS).unwrap();
-        let fw = root().join("firmware-formats");
         let exe = dir.join("harness");
-        let st = Command::new("cc")
-            .args([
-                "-std=c99",
-                "-Wall",
-                "-Wextra",
-                "-Werror",
-                "-pedantic",
-                "-O1",
-            ])
-            .arg("-I")
-            .arg(&fw)
-            .arg("-o")
-            .arg(&exe)
-            .arg(&src)
-            .arg(fw.join("glowscore_program.c"))
-            .status()
-            .expect("run the system C compiler `cc`");
-        assert!(st.success(), "cc failed on the harness");
+        let player = common::firmware_formats().join("glowscore_program.c");
+        common::build_c(&exe, &[src, player], &[]);
         exe
     })
 }
