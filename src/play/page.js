@@ -41,17 +41,21 @@
     const offsets = [];
     let frame = 0;
     let i = 0;
-    // First pass: the size of the spread-out bytes.
-    let size = 0;
-    while (i < raw.length) {
+    // An unsigned LEB128 number at raw[i], moving i past it.
+    const varint = () => {
       let n = 0;
       let mul = 1;
       for (;;) {
         const b = raw[i++];
         n += (b & 0x7f) * mul;
         mul *= 128;
-        if ((b & 0x80) === 0) break;
+        if ((b & 0x80) === 0) return n;
       }
+    };
+    // First pass: the size of the spread-out bytes.
+    let size = 0;
+    while (i < raw.length) {
+      const n = varint();
       const uniform = n % 2 === 1;
       i += uniform ? 3 : leds * 3;
       size += leds * 3;
@@ -60,14 +64,7 @@
     let o = 0;
     i = 0;
     while (i < raw.length) {
-      let n = 0;
-      let mul = 1;
-      for (;;) {
-        const b = raw[i++];
-        n += (b & 0x7f) * mul;
-        mul *= 128;
-        if ((b & 0x80) === 0) break;
-      }
+      const n = varint();
       const uniform = n % 2 === 1;
       const count = (n - (uniform ? 1 : 0)) / 2;
       starts.push(frame);
