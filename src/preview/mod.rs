@@ -702,7 +702,8 @@ pub fn write_previews(
             made += n;
         }
         let mut own = Film::new(w, h);
-        let (a, b) = (a.max(covered), b.max(a.max(covered)));
+        let a = a.max(covered);
+        let b = b.max(a);
         let n = setup.expose(prepared, (a, b), budget, &mut own, &|_| {})?;
         budget -= n;
         made += n;
