@@ -364,9 +364,30 @@ fn write_all(
     let (show, lights) = (prepared.show(), prepared.lights());
     // Within u32: `check_limits` has passed.
     let frames = show.frame_count() as u32;
-    // The checks of the motion alone run while the tables are written.
-    let (written, (motion, music)) = rayon::join(
-        || write_tables(prepared, frames, opts, dir, progress),
+    // The previews read every frame again: with the frames kept (made
+    // once, here, in parallel), the tables, the light figures and the
+    // pictures all read the same frames and none is made twice. The
+    // pictures are drawn while the tables are written, and the checks of
+    // the motion alone run beside both.
+    let previews = opts.previews;
+    if previews {
+        prepared.keep_frames();
+    }
+    let ((written, pictures), (motion, music)) = rayon::join(
+        || {
+            rayon::join(
+                || {
+                    let written = write_tables(prepared, frames, opts, dir, progress);
+                    if previews {
+                        progress(Step::Previews {
+                            count: show.sections.len() + 1,
+                        });
+                    }
+                    written
+                },
+                || previews.then(|| preview::write_previews(prepared, dir, &opts.preview)),
+            )
+        },
         // `compile` checked the budget before anything was written.
         || {
             rayon::join(
@@ -378,16 +399,12 @@ fn write_all(
     let (tables, figures) = written?;
     let motion = motion?;
     let report = crate::check::report_of(prepared, motion, figures, music?, settings);
-    let previews = if opts.previews {
-        progress(Step::Previews {
-            count: show.sections.len() + 1,
-        });
-        preview::write_previews(prepared, dir, &opts.preview)?
+    let previews = match pictures {
+        Some(p) => p?
             .iter()
             .filter_map(|p| p.file_name().map(|n| n.to_string_lossy().into_owned()))
-            .collect()
-    } else {
-        Vec::new()
+            .collect(),
+        None => Vec::new(),
     };
     let worst_landing = lights
         .landings

@@ -30,6 +30,11 @@ use crate::power;
 /// tables `compile` may write (2 GiB of them, 7.2e8 LED-frames).
 pub const MAX_LED_FRAMES: f64 = 1e9;
 
+/// The most bytes of frames [`Prepared::keep_frames`] keeps in memory
+/// (three per LED-frame, every prop together): 512 MiB, a four-minute
+/// 144-LED staff at 1000 frames/s five times over.
+pub const MAX_KEPT_BYTES: u64 = 512 << 20;
+
 /// Why a show could not be prepared.
 #[derive(Clone, Debug, PartialEq, thiserror::Error)]
 pub enum PrepareError {
@@ -133,6 +138,29 @@ impl Prepared {
     /// the output's business) into `out`, one entry per LED.
     pub fn fill_frame(&self, prop: usize, k: u64, out: &mut [[u8; 3]]) {
         self.lights.props[prop].fill_frame(&self.show, k, out);
+    }
+
+    /// Makes every frame of every prop once and keeps it in memory, when
+    /// they take at most [`MAX_KEPT_BYTES`]: from then on
+    /// [`Prepared::fill_frame`] and [`Prepared::for_each_block`] copy the
+    /// kept frames instead of computing them again (the frames are the
+    /// same either way). `compile` keeps them for its previews, which read
+    /// every frame again after the tables. Returns whether they are kept.
+    pub fn keep_frames(&self) -> bool {
+        let frames = self.frame_count();
+        let bytes: u64 = self
+            .lights
+            .props
+            .iter()
+            .map(|pl| frames.saturating_mul(3 * u64::from(pl.leds)))
+            .fold(0, u64::saturating_add);
+        if bytes > MAX_KEPT_BYTES {
+            return false;
+        }
+        for pl in &self.lights.props {
+            pl.keep(&self.show, frames);
+        }
+        true
     }
 
     /// Hands every frame of every prop, in order and in blocks, to

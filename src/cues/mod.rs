@@ -231,6 +231,22 @@ pub struct PropLights {
     spots: Vec<LedSpot>,
     /// The prop's motion: where each LED is, for paintings.
     motion: PropMotion,
+    /// Every frame, once made by [`PropLights::keep`].
+    kept: Kept,
+}
+
+/// A prop's frames kept in memory: every frame's LED bytes, one frame after
+/// the other, set once.
+#[derive(Clone, Default)]
+struct Kept(std::sync::OnceLock<Vec<[u8; 3]>>);
+
+impl std::fmt::Debug for Kept {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self.0.get() {
+            Some(v) => write!(f, "Kept({} LED-frames)", v.len()),
+            None => f.write_str("Kept(none)"),
+        }
+    }
 }
 
 impl PropLights {
@@ -297,9 +313,41 @@ impl PropLights {
         out
     }
 
+    /// Makes frames `0 .. frames` once (in parallel) and keeps them, so
+    /// that [`PropLights::fill_frame`] copies them from then on instead of
+    /// computing them again. The frames are the same either way; keep them
+    /// only after every adjustment of the prop's colours (its brightness).
+    /// A second call does nothing.
+    pub fn keep(&self, show: &Show, frames: u64) {
+        let leds = self.leds as usize;
+        self.kept.0.get_or_init(|| {
+            let mut all = vec![[0u8; 3]; frames as usize * leds];
+            if leds > 0 {
+                all.par_chunks_mut(leds)
+                    .with_min_len(64)
+                    .enumerate()
+                    .for_each(|(k, frame)| self.make_frame(show, k as u64, frame));
+            }
+            all
+        });
+    }
+
     /// Fills `out` (one R, G, B triple per LED, table order) with the LED
     /// bytes of frame `k`: linear light times the prop's brightness.
     pub fn fill_frame(&self, show: &Show, k: u64, out: &mut [[u8; 3]]) {
+        if let Some(kept) = self.kept.0.get() {
+            let leds = self.leds as usize;
+            let at = k as usize * leds;
+            if let Some(frame) = kept.get(at..at + leds) {
+                out.copy_from_slice(frame);
+                return;
+            }
+        }
+        self.make_frame(show, k, out);
+    }
+
+    /// Computes frame `k` into `out` (see [`PropLights::fill_frame`]).
+    fn make_frame(&self, show: &Show, k: u64, out: &mut [[u8; 3]]) {
         let Some(track) = self.track_at(k) else {
             out.fill([0, 0, 0]);
             return;
@@ -411,6 +459,7 @@ pub fn place(show: &Show, motions: &[PropMotion], events: &[Event]) -> Lights {
             tracks: Vec::new(),
             spots: p.led_spots(),
             motion: motions[i].clone(),
+            kept: Kept::default(),
         })
         .collect();
     let mut landings = Vec::new();

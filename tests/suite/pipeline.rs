@@ -189,6 +189,41 @@ fn compile_check_and_preview_agree_on_a_dimmed_mirrored_painted_show() {
     let _ = std::fs::remove_dir_all(&dir);
 }
 
+/// The frames `compile` keeps in memory for its previews are the frames it
+/// would compute: every byte of every frame of every prop, on a show with a
+/// dimmed prop, a mirrored prop and a painting, before and after keeping.
+#[test]
+fn kept_frames_are_the_computed_frames() {
+    let dir = folder("kept");
+    let show = write_show(&dir);
+    let parsed = glowscore::show::load(&show).unwrap();
+    let prepared = glowscore::prepared::Prepared::new(parsed).unwrap();
+    let frames_of = |p: &glowscore::prepared::Prepared| {
+        let mut all = Vec::new();
+        for (i, prop) in p.show().props.iter().enumerate() {
+            let mut frame = vec![[0u8; 3]; prop.leds as usize];
+            for k in 0..p.frame_count() {
+                p.fill_frame(i, k, &mut frame);
+                all.extend_from_slice(&frame);
+            }
+        }
+        all
+    };
+    let made = frames_of(&prepared);
+    assert!(made.iter().any(|px| *px != [0, 0, 0]), "the show is lit");
+    assert!(prepared.keep_frames(), "a small show's frames are kept");
+    assert_eq!(frames_of(&prepared), made);
+    let mut blocks = vec![Vec::new(); prepared.show().props.len()];
+    let r: Result<(), std::convert::Infallible> = prepared.for_each_block(|_, n, b| {
+        for ((all, block), prop) in blocks.iter_mut().zip(b).zip(&prepared.show().props) {
+            all.extend_from_slice(&block[..n * prop.leds as usize]);
+        }
+        Ok(())
+    });
+    let Ok(()) = r;
+    assert_eq!(blocks.concat(), made);
+}
+
 #[test]
 fn repeated_warnings_are_grouped_and_point_at_their_show_line() {
     // The demo's stall line goes slack at every stall tip, bars 9-16: one
