@@ -4,9 +4,9 @@
 //! steps, the motion spans (sums of rotating terms), where each LED sits,
 //! the cues with their colours and every colour change's frame number, and
 //! each painted picture once. `firmware-formats/program-form.md` documents
-//! every byte; `firmware-formats/glowscore_program.c` is the reference
-//! player, which computes frame `k` from them in single precision and
-//! 64-bit integers.
+//! every byte; `firmware-formats/glowscore_program.c` (with
+//! `glowscore_program_open.c`) is the reference player, which computes
+//! frame `k` from them in single precision and 64-bit integers.
 //!
 //! Everything the player could decide differently from the tables by a
 //! rounding is decided here, in the same double-precision arithmetic the
