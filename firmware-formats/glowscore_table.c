@@ -4,6 +4,8 @@
 #include "glowscore_table.h"
 
 #define GT_HEADER_LEN 36u  /* version-1 header; longer headers are allowed */
+#define GT_MARKS_AT 40u    /* version 2: the mark count at 36, the marks from 40 */
+#define GT_MARK_LEN 8u     /* one mark: frame, bar */
 #define GT_TRAILER_LEN 12u /* data_len, segment_count, crc32 */
 #define GT_ENTRY_LEN 12u   /* one segment index entry */
 #define GT_REQUIRED_FLAGS 0x0000FFFFul
@@ -147,6 +149,31 @@ static glowtab_status check_index(const glowtab *t)
     return offset == t->data_len ? GLOWTAB_OK : GLOWTAB_ERR_INDEX;
 }
 
+/* Version 2: the mark count at offset 36, then the marks, inside the header;
+ * frames below frame_count and not decreasing, bars from 1 and increasing. */
+static glowtab_status check_marks(glowtab *t, const uint8_t *buf, uint32_t header_len)
+{
+    uint32_t i, count;
+    if (header_len < GT_MARKS_AT) {
+        return GLOWTAB_ERR_HEADER;
+    }
+    count = rd32(buf + GT_HEADER_LEN);
+    if ((uint64_t)GT_MARKS_AT + (uint64_t)count * GT_MARK_LEN > header_len) {
+        return GLOWTAB_ERR_MARKS;
+    }
+    for (i = 0; i < count; i++) {
+        const uint8_t *m = buf + GT_MARKS_AT + (size_t)i * GT_MARK_LEN;
+        uint32_t frame = rd32(m), bar = rd32(m + 4);
+        if (frame >= t->frame_count || bar == 0 ||
+            (i > 0 && (frame < rd32(m - GT_MARK_LEN) || bar <= rd32(m - GT_MARK_LEN + 4)))) {
+            return GLOWTAB_ERR_MARKS;
+        }
+    }
+    t->mark_count = count;
+    t->marks = buf + GT_MARKS_AT;
+    return GLOWTAB_OK;
+}
+
 glowtab_status glowtab_open(glowtab *t, const uint8_t *buf, size_t len)
 {
     uint32_t header_len, bpl, data_len, segment_count, stored;
@@ -162,7 +189,10 @@ glowtab_status glowtab_open(glowtab *t, const uint8_t *buf, size_t len)
         return GLOWTAB_ERR_MAGIC;
     }
     t->is_compact = (uint8_t)(buf[3] == 'C');
-    if (rd16(buf + 4) != 1) {
+    t->version = rd16(buf + 4);
+    t->mark_count = 0;
+    t->marks = NULL;
+    if (t->version != 1 && t->version != 2) {
         return GLOWTAB_ERR_VERSION;
     }
     header_len = rd16(buf + 6);
@@ -209,6 +239,12 @@ glowtab_status glowtab_open(glowtab *t, const uint8_t *buf, size_t len)
         return GLOWTAB_ERR_CRC;
     }
     t->crc32 = stored;
+    if (t->version == 2) {
+        glowtab_status s = check_marks(t, buf, header_len);
+        if (s != GLOWTAB_OK) {
+            return s;
+        }
+    }
     t->data = buf + header_len;
     t->data_len = data_len;
     t->index = t->data + data_len;
@@ -277,6 +313,18 @@ glowtab_status glowtab_read_frame(const glowtab *t, uint32_t k, uint8_t *out, si
     return GLOWTAB_OK;
 }
 
+int glowtab_mark(const glowtab *t, uint32_t i, uint32_t *frame, uint32_t *bar)
+{
+    const uint8_t *m;
+    if (t == NULL || frame == NULL || bar == NULL || i >= t->mark_count) {
+        return 0;
+    }
+    m = t->marks + (size_t)i * GT_MARK_LEN;
+    *frame = rd32(m);
+    *bar = rd32(m + 4);
+    return 1;
+}
+
 const char *glowtab_status_text(glowtab_status s)
 {
     switch (s) {
@@ -292,6 +340,7 @@ const char *glowtab_status_text(glowtab_status s)
     case GLOWTAB_ERR_INDEX: return "bad segment index";
     case GLOWTAB_ERR_FRAME: return "frame out of range";
     case GLOWTAB_ERR_BUFFER: return "buffer too small";
+    case GLOWTAB_ERR_MARKS: return "bad resync marks";
     }
     return "unknown status";
 }

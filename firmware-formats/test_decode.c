@@ -4,14 +4,16 @@
  *   test_decode dump FILE OUT    write every frame, in order and wire order, to OUT ("-": stdout)
  *   test_decode frame FILE K     print frame K as hex
  *   test_decode crc FILE         print the CRC-32 of the whole file (no validation)
- *   test_decode marks FILE       print the resync marks (frame and bar, one a line)
+ *   test_decode marks FILE       print the resync marks ("FRAME BAR", one a line, in bar order)
  *
- * FILE may be a full table, a compact table or a program form (magic "GSPR",
- * played by glowscore_program.c): info, dump, frame and marks work on each.
+ * FILE may be a full table, a compact table (version 1 or 2) or a program form
+ * (magic "GSPR", played by glowscore_program.c): info, dump, frame and marks work
+ * on each; a version-1 table has no marks.
  *
  * Built with -DEMBED_HEADER='"name.h"' -DEMBED_NAME=name_table -DEMBED_MACRO=NAME_TABLE
  * it also offers
- *   test_decode embedded OUT     check the header's macros against the embedded table, dump it
+ *   test_decode embedded OUT     check the header's macros against the embedded table (or
+ *                                program form, played), dump every frame
  *
  * Exit status: 0 done, 1 the table was refused (reason on stderr), 2 usage or file error.
  * The decoder itself never allocates; this host tool reads files with malloc.
@@ -122,10 +124,43 @@ static void print_info(const glowtab *t)
            (unsigned long)t->segment_count, (unsigned long)t->crc32);
 }
 
+static void print_marks(const glowtab *t)
+{
+    uint32_t i, f, bar;
+    for (i = 0; glowtab_mark(t, i, &f, &bar); i++) {
+        printf("%lu %lu\n", (unsigned long)f, (unsigned long)bar);
+    }
+}
+
 static int refuse_program(glowprog_status s)
 {
     fprintf(stderr, "error: %s\n", glowprog_status_text(s));
     return 1;
+}
+
+/* Every frame of a program form, played, to out_path ("-": stdout). */
+static int dump_program(const glowprog *p, uint8_t *frame, const char *out_path)
+{
+    FILE *out = strcmp(out_path, "-") == 0 ? stdout : fopen(out_path, "wb");
+    uint32_t k;
+    int rc = 0;
+    if (out == NULL) {
+        return 2;
+    }
+    for (k = 0; k < p->frame_count && rc == 0; k++) {
+        glowprog_status s = glowprog_frame(p, k, frame, p->frame_size);
+        if (s != GLOWPROG_OK) {
+            rc = refuse_program(s);
+        } else if (fwrite(frame, 1, p->frame_size, out) != p->frame_size) {
+            rc = 2;
+        }
+    }
+    if (out != stdout) {
+        fclose(out);
+    } else {
+        fflush(out);
+    }
+    return rc;
 }
 
 /* info, dump, frame and marks of a program form. */
@@ -155,24 +190,7 @@ static int program(int argc, char **argv, const uint8_t *buf, size_t len)
             printf("%lu %lu\n", (unsigned long)f, (unsigned long)bar);
         }
     } else if (strcmp(argv[1], "dump") == 0 && argc == 4) {
-        FILE *out = strcmp(argv[3], "-") == 0 ? stdout : fopen(argv[3], "wb");
-        uint32_t k;
-        if (out == NULL) {
-            free(frame);
-            return 2;
-        }
-        for (k = 0; k < p.frame_count && rc == 0; k++) {
-            if ((s = glowprog_frame(&p, k, frame, p.frame_size)) != GLOWPROG_OK) {
-                rc = refuse_program(s);
-            } else if (fwrite(frame, 1, p.frame_size, out) != p.frame_size) {
-                rc = 2;
-            }
-        }
-        if (out != stdout) {
-            fclose(out);
-        } else {
-            fflush(out);
-        }
+        rc = dump_program(&p, frame, argv[3]);
     } else if (strcmp(argv[1], "frame") == 0 && argc == 4) {
         char *end = NULL;
         unsigned long k = strtoul(argv[3], &end, 10);
@@ -195,10 +213,42 @@ static int program(int argc, char **argv, const uint8_t *buf, size_t len)
 }
 
 #ifdef EMBED_HEADER
+/* The embedded program form, played through glowscore_program.c. */
+static int embedded_program(const char *out_path)
+{
+    glowprog p;
+    uint8_t *frame;
+    int rc;
+    glowprog_status s = glowprog_open(&p, EMBED_NAME, sizeof EMBED_NAME);
+    if (s != GLOWPROG_OK) {
+        return refuse_program(s);
+    }
+    if (sizeof EMBED_NAME != GT_M(_SIZE) || p.frame_rate_hz != GT_M(_FRAME_RATE_HZ) ||
+        p.led_count != GT_M(_LED_COUNT) || p.frame_count != GT_M(_FRAME_COUNT) ||
+        p.bytes_per_led != GT_M(_BYTES_PER_LED) || GT_M(_IS_COMPACT) != 0 ||
+        GT_M(_IS_PROGRAM) != 1) {
+        fprintf(stderr, "error: macros disagree with the embedded program form\n");
+        return 1;
+    }
+    printf("form=program frames=%lu wire_order=%s\n", (unsigned long)p.frame_count,
+           GT_M(_WIRE_ORDER));
+    frame = (uint8_t *)malloc(p.frame_size ? p.frame_size : 1);
+    if (frame == NULL) {
+        return 2;
+    }
+    rc = dump_program(&p, frame, out_path);
+    free(frame);
+    return rc;
+}
+
 static int embedded(const char *out_path)
 {
     glowtab t;
-    glowtab_status s = glowtab_open(&t, EMBED_NAME, sizeof EMBED_NAME);
+    glowtab_status s;
+    if (GT_M(_IS_PROGRAM)) {
+        return embedded_program(out_path);
+    }
+    s = glowtab_open(&t, EMBED_NAME, sizeof EMBED_NAME);
     if (s != GLOWTAB_OK) {
         return refuse(s);
     }
@@ -251,6 +301,9 @@ int main(int argc, char **argv)
     }
     if (strcmp(argv[1], "info") == 0 && argc == 3) {
         print_info(&t);
+        rc = 0;
+    } else if (strcmp(argv[1], "marks") == 0 && argc == 3) {
+        print_marks(&t);
         rc = 0;
     } else if (strcmp(argv[1], "dump") == 0 && argc == 4) {
         rc = dump(&t, argv[3]);

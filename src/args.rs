@@ -196,6 +196,8 @@ pub enum HeaderForm {
     Full,
     /// Runs and fades.
     Compact,
+    /// The program form: the show as the player evaluates it.
+    Program,
 }
 
 impl From<HeaderForm> for TableForm {
@@ -203,6 +205,7 @@ impl From<HeaderForm> for TableForm {
         match f {
             HeaderForm::Full => TableForm::Full,
             HeaderForm::Compact => TableForm::Compact,
+            HeaderForm::Program => TableForm::Program,
         }
     }
 }

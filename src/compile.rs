@@ -231,28 +231,50 @@ fn size(bytes: u64) -> String {
 
 /// The most bytes each kind of output of a compile with `opts` can take,
 /// counted before anything is written: (`csv`, `full`, `compact`,
-/// `header`, `previews`, `report`), every prop together. Each figure is an
+/// `program`, `header`, `previews`, `report`), every prop together.
+/// `programs` are the props' program forms' sizes, in prop order (they are
+/// made before the frames; a missing one counts as 0). Each figure is an
 /// upper bound: a CSV row with every value three digits long, a compact
 /// table no larger than the full one (its encoder stores a run only where
-/// that saves bytes), the C header's hex text, previews as PNGs that did
-/// not compress.
-pub fn output_bytes(show: &Show, opts: &CompileOptions) -> Vec<(&'static str, u64)> {
+/// that saves bytes), previews as PNGs that did not compress; the full
+/// table, the program form and the C header of either are exact.
+pub fn output_bytes(
+    show: &Show,
+    opts: &CompileOptions,
+    programs: &[u64],
+) -> Vec<(&'static str, u64)> {
     let frames = show.frame_count();
     let digits = |n: u64| n.max(1).ilog10() as u64 + 1;
     let wanted = |k: &str| !opts.skip.iter().any(|s| s == k);
     let (mut csv, mut full, mut header) = (0u64, 0u64, 0u64);
     // The time column: whole seconds, a point and six decimals.
     let time_text = digits(show.end_s().ceil() as u64) + 7;
-    for p in &show.props {
+    let frame_count = frames.min(u64::from(u32::MAX)) as u32;
+    let marks = crate::output::resync_marks(show, frame_count).len();
+    for (i, p) in show.props.iter().enumerate() {
         let leds = u64::from(p.leds);
         let head: u64 = 12 + (0..leds).map(|i| 6 + 3 * digits(i)).sum::<u64>() + 1;
         let row = digits(frames) + 1 + time_text + 12 * leds + 1;
         csv = csv.saturating_add(head.saturating_add(frames.saturating_mul(row)));
         let table = frames.saturating_mul(leds * p.wire_order.bytes_per_led() as u64)
-            + (crate::output::HEADER_LEN + crate::output::TRAILER_LEN) as u64;
+            + (crate::output::header_len(marks) + crate::output::TRAILER_LEN) as u64;
         full = full.saturating_add(table);
-        // 76 characters a line of twelve bytes, and the declarations.
-        header = header.saturating_add(table.div_ceil(12).saturating_mul(76) + 4096);
+        let embedded = match opts.header_form {
+            TableForm::Program => programs.get(i).copied().unwrap_or(0),
+            TableForm::Full | TableForm::Compact => table,
+        };
+        let spec = TableSpec {
+            frame_rate_hz: show.frame_rate_hz,
+            leds: p.leds,
+            order: p.wire_order,
+            frame_count,
+        };
+        header = header.saturating_add(crate::output::c_header_bytes(
+            &spec,
+            &p.name,
+            opts.header_form,
+            embedded,
+        ));
     }
     let previews = if opts.previews {
         let (w, h) = opts.preview.size.unwrap_or(preview::DEFAULT_SIZE);
@@ -268,6 +290,7 @@ pub fn output_bytes(show: &Show, opts: &CompileOptions) -> Vec<(&'static str, u6
         ("csv", if wanted("csv") { csv } else { 0 }),
         ("full", full),
         ("compact", full),
+        ("program", programs.iter().sum()),
         ("header", if wanted("header") { header } else { 0 }),
         ("previews", previews),
         ("report", report),
@@ -277,8 +300,12 @@ pub fn output_bytes(show: &Show, opts: &CompileOptions) -> Vec<(&'static str, u6
 /// Refuses a compile whose outputs could take more than
 /// [`MAX_OUTPUT_BYTES`], with each output's share, what drives it and the
 /// options that avoid it.
-pub fn check_output_size(show: &Show, opts: &CompileOptions) -> Result<(), CompileError> {
-    let parts = output_bytes(show, opts);
+pub fn check_output_size(
+    show: &Show,
+    opts: &CompileOptions,
+    programs: &[u64],
+) -> Result<(), CompileError> {
+    let parts = output_bytes(show, opts, programs);
     let total = parts.iter().fold(0u64, |a, (_, b)| a.saturating_add(*b));
     if total <= MAX_OUTPUT_BYTES {
         return Ok(());
@@ -332,15 +359,24 @@ pub fn compile_with_progress(
     progress: &(dyn Fn(Step) + Sync),
 ) -> Result<(CompileSummary, CheckReport), CompileError> {
     let show = prepared.show();
-    check_limits(show)?;
-    check_output_size(show, opts)?;
+    let frames = check_limits(show)?;
+    let programs = program_forms(prepared, frames)?;
+    let sizes: Vec<u64> = programs.iter().map(|p| p.len() as u64).collect();
+    check_output_size(show, opts, &sizes)?;
     let settings = CheckSettings {
         tolerance_mm: opts.tolerance_mm,
         ..CheckSettings::default()
     };
     crate::check::within_budget(prepared, &settings)?;
     let folder = Folder::open(&opts.out_dir)?;
-    let (summary, report) = write_all(prepared, &settings, opts, folder.staging(), progress)?;
+    let (summary, report) = write_all(
+        prepared,
+        &settings,
+        opts,
+        &programs,
+        folder.staging(),
+        progress,
+    )?;
     let mut names: Vec<String> = summary
         .tables
         .iter()
@@ -358,6 +394,7 @@ fn write_all(
     prepared: &Prepared,
     settings: &CheckSettings,
     opts: &CompileOptions,
+    programs: &[Vec<u8>],
     dir: &Path,
     progress: &(dyn Fn(Step) + Sync),
 ) -> Result<(CompileSummary, CheckReport), CompileError> {
@@ -377,7 +414,7 @@ fn write_all(
         || {
             rayon::join(
                 || {
-                    let written = write_tables(prepared, frames, opts, dir, progress);
+                    let written = write_tables(prepared, frames, opts, programs, dir, progress);
                     if previews {
                         progress(Step::Previews {
                             count: show.sections.len() + 1,
@@ -498,33 +535,44 @@ fn write_report(
     f.flush().map_err(&io)
 }
 
+/// The table description of `prop` in a show of `frames` frames.
+fn spec_of(show: &Show, prop: &crate::model::Prop, frames: u32) -> TableSpec {
+    TableSpec {
+        frame_rate_hz: show.frame_rate_hz,
+        leds: prop.leds,
+        order: prop.wire_order,
+        frame_count: frames,
+    }
+}
+
+/// Every prop's program form, in prop order: made from the prepared show
+/// before the frames, so that its size is known before anything is written.
+fn program_forms(prepared: &Prepared, frames: u32) -> Result<Vec<Vec<u8>>, CompileError> {
+    let show = prepared.show();
+    let programs = show.props.iter().enumerate().map(|(i, p)| {
+        crate::output::program::encode(prepared, i, &spec_of(show, p, frames)).map_err(|source| {
+            FileError {
+                file: format!("{}.prog.bin", p.name),
+                source,
+            }
+        })
+    });
+    Ok(programs.collect::<Result<_, _>>()?)
+}
+
 /// Streams every frame of every prop into its files ([`crate::output::FORMATS`]), block by
 /// block, and gathers the figures the check reads off the frames on the way.
 fn write_tables(
     prepared: &Prepared,
     frames: u32,
     opts: &CompileOptions,
+    programs: &[Vec<u8>],
     dir: &Path,
     progress: &(dyn Fn(Step) + Sync),
 ) -> Result<(Vec<(String, PropTables)>, FrameFigures), CompileError> {
     let (show, lights) = (prepared.show(), prepared.lights());
-    let spec = |p: &crate::model::Prop| TableSpec {
-        frame_rate_hz: show.frame_rate_hz,
-        leds: p.leds,
-        order: p.wire_order,
-        frame_count: frames,
-    };
-    let programs: Vec<Vec<u8>> = show
-        .props
-        .iter()
-        .enumerate()
-        .map(|(i, p)| {
-            crate::output::program::encode(prepared, i, &spec(p)).map_err(|source| FileError {
-                file: format!("{}.prog.bin", p.name),
-                source,
-            })
-        })
-        .collect::<Result<_, _>>()?;
+    let spec = |p: &crate::model::Prop| spec_of(show, p, frames);
+    let marks = crate::output::resync_marks(show, frames);
     let (header_form, skip) = (opts.header_form, opts.skip.as_slice());
     let mut writers: Vec<PropFiles> = show
         .props
@@ -535,6 +583,7 @@ fn write_tables(
                 spec: spec(p),
                 prop: &p.name,
                 header_form,
+                marks: &marks,
                 program: &programs[i],
                 skip,
             };
@@ -620,6 +669,7 @@ mod tests {
                     },
                     prop: &p.name,
                     header_form: TableForm::Full,
+                    marks: &[],
                     program: &[],
                     skip: &[],
                 };

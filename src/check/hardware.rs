@@ -17,7 +17,7 @@ use serde::Serialize;
 use super::report::{Warning, WarningKind, When, r9, r9_opt};
 use crate::cues::Lights;
 use crate::model::{LedDriver, Prop, Show};
-use crate::output::{CompactTableWriter, HEADER_LEN, TRAILER_LEN, TableSpec};
+use crate::output::{CompactTableWriter, TRAILER_LEN, TableSpec, header_len, resync_marks};
 
 /// Data-only bit time, seconds (800 kbit/s; from memory of common data sheets).
 pub const DATA_ONLY_BIT_S: f64 = 1.25e-6;
@@ -106,9 +106,9 @@ pub fn drift_s(ppm: f64, seconds: f64) -> f64 {
     ppm * 1e-6 * seconds
 }
 
-/// Size of the full table of `frames` frames of `spec`, bytes.
-pub fn full_table_bytes(spec: &TableSpec) -> u64 {
-    (HEADER_LEN + TRAILER_LEN) as u64 + spec.frame_size() * u64::from(spec.frame_count)
+/// Size of the full table of `spec` with `marks` resync marks, bytes.
+pub fn full_table_bytes(spec: &TableSpec, marks: usize) -> u64 {
+    (header_len(marks) + TRAILER_LEN) as u64 + spec.frame_size() * u64::from(spec.frame_count)
 }
 
 /// A writer that only counts bytes.
@@ -123,7 +123,8 @@ impl std::io::Write for Count {
     }
 }
 
-/// A compact table encoder that only counts its bytes, for props of `show`.
+/// A compact table encoder that only counts its bytes, for props of `show`
+/// (with the show's resync marks, as compile writes it).
 pub fn compact_counter(show: &Show, prop: usize) -> Option<CompactTableWriter<Count>> {
     let p = &show.props[prop];
     let spec = TableSpec {
@@ -132,7 +133,7 @@ pub fn compact_counter(show: &Show, prop: usize) -> Option<CompactTableWriter<Co
         order: p.wire_order,
         frame_count: show.frame_count().min(u64::from(u32::MAX)) as u32,
     };
-    CompactTableWriter::new(Count, spec).ok()
+    CompactTableWriter::with_marks(Count, spec, &resync_marks(show, spec.frame_count)).ok()
 }
 
 /// The size of every prop's program form, bytes, in prop order (`None`
@@ -172,6 +173,7 @@ pub fn scan(
         .chain(show.tempo.changes().map(|c| c.1))
         .fold(0.0, f64::max);
     let start = When::at_beat(show, 0.0);
+    let marks = resync_marks(show, frames).len();
     let mut figures = Vec::new();
     let mut warnings = Vec::new();
     for (i, prop) in show.props.iter().enumerate() {
@@ -192,7 +194,7 @@ pub fn scan(
             prop.leds_per_line,
             prop.wire_order.bytes_per_led(),
         );
-        let full = full_table_bytes(&spec);
+        let full = full_table_bytes(&spec, marks);
         let compact = compact_bytes.get(i).copied().flatten().unwrap_or(full);
         let memory = prop.table_memory_kb.map(|kb| (kb * 1024.0).floor() as u64);
         let program = program_bytes.get(i).copied().flatten();

@@ -612,6 +612,10 @@ impl Cue {
     }
 }
 
+/// Most bars `resync_bars` may name: the marks of that many fill a table
+/// header (`firmware-formats/full-table.md`, "Resync marks").
+pub const MAX_RESYNC_BARS: usize = 8186;
+
 /// The names of the check's warning kinds, as `[[expected]]` gives them.
 pub const WARNING_KINDS: &[&str] = &[
     "slack",

@@ -15,6 +15,7 @@
 
 use std::io::Write;
 
+use super::marks::{Mark, check_marks};
 use super::spec::{MAGIC_COMPACT, Sink, TableSpec};
 use super::{FrameWriter, OutputError, SegmentStats, WriteStats, check_complete, check_frame};
 
@@ -144,14 +145,21 @@ pub struct CompactTableWriter<W: Write> {
 impl<W: Write> CompactTableWriter<W> {
     /// Validates `spec` and writes the header to `out`.
     pub fn new(out: W, spec: TableSpec) -> Result<Self, OutputError> {
+        Self::with_marks(out, spec, &[])
+    }
+
+    /// Validates `spec` and the resync marks `marks` and writes the header
+    /// (version 2, holding the marks, unless there are none) to `out`.
+    pub fn with_marks(out: W, spec: TableSpec, marks: &[Mark]) -> Result<Self, OutputError> {
         spec.validate()?;
+        check_marks(marks, spec.frame_count)?;
         let fs = spec.frame_size() as usize;
         let fs64 = spec.frame_size();
         // Smallest h with (h - 1) * fs > overhead, and smallest n with (n - 5) * fs > overhead.
         let hold_min = (SEGMENT_OVERHEAD / fs64 + 2) as u32;
         let fade_min = (SEGMENT_OVERHEAD / fs64 + 6) as u32;
         let mut sink = Sink::new(out);
-        sink.put(&spec.header(MAGIC_COMPACT))?;
+        sink.put(&spec.header_with_marks(MAGIC_COMPACT, marks))?;
         Ok(CompactTableWriter {
             sink,
             spec,

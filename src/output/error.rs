@@ -74,6 +74,9 @@ pub enum ReadError {
         /// CRC-32 of the bytes read.
         computed: u32,
     },
+    /// The resync marks of a version-2 header are inconsistent.
+    #[error("bad resync marks: {0}")]
+    BadMarks(&'static str),
     /// The segment index of a compact table is inconsistent.
     #[error("bad segment index: {0}")]
     BadIndex(&'static str),

@@ -21,7 +21,7 @@ use serde::ser::SerializeMap;
 
 use super::program::ProgramFile;
 use super::{
-    CHeaderText, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, OutputError,
+    CHeaderText, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, Mark, OutputError,
     TableForm, TableSpec, WriteStats,
 };
 
@@ -34,6 +34,9 @@ pub struct Opening<'a> {
     pub prop: &'a str,
     /// Which binary form the C header embeds.
     pub header_form: TableForm,
+    /// The resync marks the binary tables carry (`output::resync_marks`;
+    /// the program form has them already).
+    pub marks: &'a [Mark],
     /// The prop's program form, made from the prepared show before the
     /// frames (`output::program::encode`); its writer only stores it.
     pub program: &'a [u8],
@@ -86,20 +89,24 @@ pub const FORMATS: [Format; 5] = [
         suffix: ".full.bin",
         reports_crc: true,
         form: Some(TableForm::Full),
-        open: Some(|out, o| Ok(Box::new(FullTableWriter::new(out, o.spec)?))),
+        open: Some(|out, o| Ok(Box::new(FullTableWriter::with_marks(out, o.spec, o.marks)?))),
     },
     Format {
         key: "compact",
         suffix: ".compact.bin",
         reports_crc: true,
         form: Some(TableForm::Compact),
-        open: Some(|out, o| Ok(Box::new(CompactTableWriter::new(out, o.spec)?))),
+        open: Some(|out, o| {
+            Ok(Box::new(CompactTableWriter::with_marks(
+                out, o.spec, o.marks,
+            )?))
+        }),
     },
     Format {
         key: "program",
         suffix: ".prog.bin",
         reports_crc: true,
-        form: None,
+        form: Some(TableForm::Program),
         open: Some(|out, o| Ok(Box::new(ProgramFile::new(out, o.program.to_vec())))),
     },
     Format {

@@ -4,6 +4,7 @@
 
 use std::io::Write;
 
+use super::marks::{Mark, check_marks};
 use super::spec::{MAGIC_FULL, Sink, TableSpec};
 use super::{FrameWriter, OutputError, WriteStats, check_complete, check_frame};
 
@@ -18,9 +19,16 @@ pub struct FullTableWriter<W: Write> {
 impl<W: Write> FullTableWriter<W> {
     /// Validates `spec` and writes the header to `out`.
     pub fn new(out: W, spec: TableSpec) -> Result<Self, OutputError> {
+        Self::with_marks(out, spec, &[])
+    }
+
+    /// Validates `spec` and the resync marks `marks` and writes the header
+    /// (version 2, holding the marks, unless there are none) to `out`.
+    pub fn with_marks(out: W, spec: TableSpec, marks: &[Mark]) -> Result<Self, OutputError> {
         spec.validate()?;
+        check_marks(marks, spec.frame_count)?;
         let mut sink = Sink::new(out);
-        sink.put(&spec.header(MAGIC_FULL))?;
+        sink.put(&spec.header_with_marks(MAGIC_FULL, marks))?;
         Ok(FullTableWriter {
             sink,
             spec,

@@ -1,4 +1,5 @@
-//! Frame-table formats: CSV, the full and compact binary tables, and the C header.
+//! Frame-table formats: CSV, the full and compact binary tables, the program
+//! form, the C header, and the resync marks the binary forms carry.
 //!
 //! Every writer takes frames one at a time, each a slice of linear-light
 //! `[r, g, b]` bytes per LED (LED 0 first, already gamma-decoded and scaled by
@@ -17,20 +18,22 @@ mod csv;
 mod error;
 pub mod files;
 mod full;
+pub mod marks;
 pub mod program;
 mod reader;
 mod spec;
 
-pub use c_header::{CHeaderText, CHeaderWriter, c_identifier};
+pub use c_header::{CHeaderText, CHeaderWriter, c_header_bytes, c_identifier};
 pub use compact::{CompactTableWriter, FADE_FRACTION_BITS, SegmentKind};
 pub use csv::CsvWriter;
 pub use error::{OutputError, ReadError};
 pub use files::FORMATS;
 pub use full::FullTableWriter;
+pub use marks::{Mark, resync_marks};
 pub use reader::{TableView, read_table};
 pub use spec::{
     FORMAT_VERSION, HEADER_LEN, MAGIC_COMPACT, MAGIC_FULL, REQUIRED_FLAGS_MASK, TRAILER_LEN,
-    TableForm, TableSpec,
+    TableForm, TableSpec, header_len,
 };
 
 /// A streaming writer of one table: push every frame, then finish.

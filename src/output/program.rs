@@ -4,9 +4,9 @@
 //! steps, the motion spans (sums of rotating terms), where each LED sits,
 //! the cues with their colours and every colour change's frame number, and
 //! each painted picture once. `firmware-formats/program-form.md` documents
-//! every byte; `firmware-formats/glowscore_program.c` is the reference
-//! player, which computes frame `k` from them in single precision and
-//! 64-bit integers.
+//! every byte; `firmware-formats/glowscore_program.c` (with
+//! `glowscore_program_open.c`) is the reference player, which computes
+//! frame `k` from them in single precision and 64-bit integers.
 //!
 //! Everything the player could decide differently from the tables by a
 //! rounding is decided here, in the same double-precision arithmetic the
@@ -564,19 +564,11 @@ pub fn encode(prepared: &Prepared, prop: usize, spec: &TableSpec) -> Result<Vec<
     info.u32(show.tempo.beats_per_bar());
     info.f32(show.props[prop].tether_m);
     let mut marks = Bytes::default();
-    let marked: Vec<(u64, u32)> = show
-        .resync_bars
-        .iter()
-        .map(|&bar| {
-            let t = show.tempo.time_at_bar(bar);
-            (crate::cues::frame_of(t, show.frame_rate_hz), bar)
-        })
-        .filter(|&(k, _)| k < frames)
-        .collect();
+    let marked = super::marks::resync_marks(show, spec.frame_count);
     marks.u32(count_u32(marked.len(), "resync marks")?);
-    for (k, bar) in marked {
-        marks.u32(frame_u32(k));
-        marks.u32(bar);
+    for m in marked {
+        marks.u32(m.frame);
+        marks.u32(m.bar);
     }
     let mut sections: Vec<(&[u8; 4], Bytes)> = vec![
         (b"PROP", info),

@@ -1,10 +1,13 @@
-//! Reader of both binary forms: validates header, length, CRC-32 and index, then reads any frame.
+//! Reader of both binary forms: validates header, length, CRC-32, index and
+//! resync marks, then reads any frame.
 //!
 //! It follows `firmware-formats/full-table.md` and `compact-table.md` step by
-//! step, as the C reference decoder does, and never allocates.
+//! step, as the C reference decoder does, reads versions 1 and 2, and never
+//! allocates.
 
 use super::compact::{INDEX_ENTRY_LEN, SegmentKind, fade_value};
 use super::error::ReadError;
+use super::marks::{MARK_LEN, MARKS_AT, Mark};
 use super::spec::{
     FORMAT_VERSION, HEADER_LEN, MAGIC_COMPACT, MAGIC_FULL, REQUIRED_FLAGS_MASK, TRAILER_LEN,
     TableForm, TableSpec,
@@ -21,6 +24,9 @@ pub struct TableView<'a> {
     index: &'a [u8],
     segment_count: u32,
     crc32: u32,
+    version: u16,
+    /// The resync marks, `MARK_LEN` bytes each (empty in version 1).
+    marks: &'a [u8],
 }
 
 fn u16_at(b: &[u8], at: usize) -> u16 {
@@ -44,7 +50,7 @@ pub fn read_table(bytes: &[u8]) -> Result<TableView<'_>, ReadError> {
         _ => return Err(ReadError::BadMagic(magic)),
     };
     let version = u16_at(bytes, 4);
-    if version != FORMAT_VERSION {
+    if !(1..=FORMAT_VERSION).contains(&version) {
         return Err(ReadError::Version(version));
     }
     let header_len = usize::from(u16_at(bytes, 6));
@@ -99,6 +105,11 @@ pub fn read_table(bytes: &[u8]) -> Result<TableView<'_>, ReadError> {
     if computed != stored {
         return Err(ReadError::Crc { stored, computed });
     }
+    let marks = if version >= 2 {
+        read_marks(&bytes[..header_len], frame_count)?
+    } else {
+        &[]
+    };
 
     let data_end = header_len + data_len as usize;
     let view = TableView {
@@ -114,6 +125,8 @@ pub fn read_table(bytes: &[u8]) -> Result<TableView<'_>, ReadError> {
         index: &bytes[data_end..t],
         segment_count,
         crc32: stored,
+        version,
+        marks,
     };
     match form {
         TableForm::Full => {
@@ -124,9 +137,40 @@ pub fn read_table(bytes: &[u8]) -> Result<TableView<'_>, ReadError> {
                 return Err(ReadError::BadHeader("data_len"));
             }
         }
-        TableForm::Compact => view.check_index()?,
+        // `form` came from a table magic above.
+        TableForm::Compact | TableForm::Program => view.check_index()?,
     }
     Ok(view)
+}
+
+/// The marks of a version-2 header `header` (`header_len` bytes), checked:
+/// they fit the header, frames below `frame_count` and not decreasing, bars
+/// from 1 and increasing.
+fn read_marks(header: &[u8], frame_count: u32) -> Result<&[u8], ReadError> {
+    if header.len() < MARKS_AT {
+        return Err(ReadError::BadHeader("header_len"));
+    }
+    let count = u64::from(u32_at(header, HEADER_LEN));
+    let end = MARKS_AT as u64 + count * MARK_LEN as u64;
+    if end > header.len() as u64 {
+        return Err(ReadError::BadMarks("more marks than the header holds"));
+    }
+    let marks = &header[MARKS_AT..end as usize];
+    let mut prev: Option<(u32, u32)> = None;
+    for m in marks.chunks_exact(MARK_LEN) {
+        let (frame, bar) = (u32_at(m, 0), u32_at(m, 4));
+        if frame >= frame_count {
+            return Err(ReadError::BadMarks("a mark past the last frame"));
+        }
+        if bar == 0 {
+            return Err(ReadError::BadMarks("a mark of bar 0"));
+        }
+        if prev.is_some_and(|(f, b)| frame < f || bar <= b) {
+            return Err(ReadError::BadMarks("marks out of order"));
+        }
+        prev = Some((frame, bar));
+    }
+    Ok(marks)
 }
 
 /// One decoded index entry.
@@ -140,6 +184,31 @@ impl<'a> TableView<'a> {
     /// Full or compact.
     pub fn form(&self) -> TableForm {
         self.form
+    }
+
+    /// The format version: 1, or 2 for a table with resync marks.
+    pub fn version(&self) -> u16 {
+        self.version
+    }
+
+    /// Resync marks in the header (0 in version 1).
+    pub fn mark_count(&self) -> u32 {
+        (self.marks.len() / MARK_LEN) as u32
+    }
+
+    /// Resync mark `i`: the first frame of a marked bar, and the bar.
+    pub fn mark(&self, i: u32) -> Option<Mark> {
+        let at = (i as usize).checked_mul(MARK_LEN)?;
+        let m = self.marks.get(at..at + MARK_LEN)?;
+        Some(Mark {
+            frame: u32_at(m, 0),
+            bar: u32_at(m, 4),
+        })
+    }
+
+    /// Every resync mark, in bar order.
+    pub fn marks(&self) -> impl Iterator<Item = Mark> + '_ {
+        (0..self.mark_count()).filter_map(|i| self.mark(i))
     }
 
     /// Frame rate (Hz), LED count, wire order and frame count from the header.

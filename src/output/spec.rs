@@ -6,14 +6,17 @@
 use std::io::{BufWriter, Write};
 
 use super::error::OutputError;
+use super::marks::{MARK_LEN, MARKS_AT, Mark};
 use crate::model::WireOrder;
 
 /// Magic of a full binary table: every frame stored.
 pub const MAGIC_FULL: [u8; 4] = *b"GSTF";
 /// Magic of a compact binary table: segments of literal frames, holds and fades.
 pub const MAGIC_COMPACT: [u8; 4] = *b"GSTC";
-/// Format version written, and the only one the readers accept.
-pub const FORMAT_VERSION: u16 = 1;
+/// The newest format version, which the readers accept with version 1:
+/// version 2 adds resync marks to the header. A table without marks is
+/// written as version 1, byte for byte as before.
+pub const FORMAT_VERSION: u16 = 2;
 /// Header length written by version 1, bytes (readers accept longer headers and skip the rest).
 pub const HEADER_LEN: usize = 36;
 /// Trailer length, bytes: data length, segment count, CRC-32.
@@ -41,6 +44,30 @@ pub enum TableForm {
     Full,
     /// Runs and linear fades stored as segments, with an index (`GSTC`).
     Compact,
+    /// The show as a program the player evaluates (`GSPR`), made from the
+    /// prepared show, not from frames (`output::program`).
+    Program,
+}
+
+impl TableForm {
+    /// Its name: `full`, `compact`, `program`.
+    pub fn name(self) -> &'static str {
+        match self {
+            TableForm::Full => "full",
+            TableForm::Compact => "compact",
+            TableForm::Program => "program",
+        }
+    }
+}
+
+/// Bytes of a table header holding `marks` resync marks: 36 (version 1)
+/// without marks, `40 + 8 * marks` (version 2) with them.
+pub fn header_len(marks: usize) -> usize {
+    if marks == 0 {
+        HEADER_LEN
+    } else {
+        MARKS_AT + MARK_LEN * marks
+    }
 }
 
 impl TableSpec {
@@ -82,7 +109,7 @@ impl TableSpec {
     pub fn header(&self, magic: [u8; 4]) -> [u8; HEADER_LEN] {
         let mut h = [0u8; HEADER_LEN];
         h[0..4].copy_from_slice(&magic);
-        h[4..6].copy_from_slice(&FORMAT_VERSION.to_le_bytes());
+        h[4..6].copy_from_slice(&1u16.to_le_bytes());
         h[6..8].copy_from_slice(&(HEADER_LEN as u16).to_le_bytes());
         // 8..12 flags: none in version 1.
         h[12..16].copy_from_slice(&self.frame_rate_hz.to_le_bytes());
@@ -94,6 +121,27 @@ impl TableSpec {
         // validate() keeps frame_size within u32; saturate for an unvalidated spec.
         let fs = u32::try_from(self.frame_size()).unwrap_or(u32::MAX);
         h[32..36].copy_from_slice(&fs.to_le_bytes());
+        h
+    }
+
+    /// The header of a table with resync marks `marks`: the version-1
+    /// header when there are none, else version 2 (`header_len(marks)`
+    /// bytes: the version-1 fields, the mark count, then each mark's frame
+    /// and bar). The caller checks the marks (`marks::check_marks`).
+    pub fn header_with_marks(&self, magic: [u8; 4], marks: &[Mark]) -> Vec<u8> {
+        let mut h = self.header(magic).to_vec();
+        if marks.is_empty() {
+            return h;
+        }
+        h[4..6].copy_from_slice(&FORMAT_VERSION.to_le_bytes());
+        // check_marks keeps the length within u16.
+        let len = u16::try_from(header_len(marks.len())).unwrap_or(u16::MAX);
+        h[6..8].copy_from_slice(&len.to_le_bytes());
+        h.extend_from_slice(&(marks.len() as u32).to_le_bytes());
+        for m in marks {
+            h.extend_from_slice(&m.frame.to_le_bytes());
+            h.extend_from_slice(&m.bar.to_le_bytes());
+        }
         h
     }
 }

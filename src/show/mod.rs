@@ -314,6 +314,19 @@ fn resync_bars(ctx: &mut Ctx, header: Tbl<'_, '_>, last_bar: u32) -> Vec<u32> {
     }
     bars.sort_unstable();
     bars.dedup();
+    if bars.len() > crate::model::MAX_RESYNC_BARS {
+        ctx.error_help(
+            &path,
+            span,
+            format!(
+                "{} resync bars are more than a table can mark ({})",
+                bars.len(),
+                crate::model::MAX_RESYNC_BARS
+            ),
+            "mark fewer bars: every eighth bar is plenty to re-align to",
+        );
+        return Vec::new();
+    }
     bars
 }
 

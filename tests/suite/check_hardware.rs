@@ -124,3 +124,52 @@ fn reported_table_sizes_are_the_sizes_of_the_files_written() {
         assert_eq!(hw[key].as_u64(), Some(size), "{key}");
     }
 }
+
+#[test]
+fn check_counts_the_resync_marks_in_the_table_sizes_and_the_fit() {
+    // With `resync_bars` the tables are version 2: 4 bytes of count and 8 a
+    // mark more in each header. `check` counts the tables without writing
+    // them; its sizes are the compiled files', and which forms fit a memory
+    // exactly the compact table's size (with its marks) turns on them.
+    let dir = Path::new(env!("CARGO_TARGET_TMPDIR")).join("hardware-marks");
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let with_marks =
+        |keys: &str| show(keys, 200, 4).replace("bpm = 120\n", "bpm = 120\nresync_bars = [1, 3]\n");
+    let file = dir.join("show.toml");
+    std::fs::write(&file, with_marks("")).unwrap();
+    let out = Command::new(env!("CARGO_BIN_EXE_glowscore"))
+        .arg("compile")
+        .arg(&file)
+        .arg("--out")
+        .arg(dir.join("out"))
+        .arg("--no-previews")
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let size = |f: &str| std::fs::metadata(dir.join("out").join(f)).unwrap().len();
+    let (full, compact, program) = (
+        size("p.full.bin"),
+        size("p.compact.bin"),
+        size("p.prog.bin"),
+    );
+    // 100 LEDs x 3 bytes x 1600 frames (16 beats at 120 bpm, 200 frames/s), the
+    // 40-byte header with two marks, the trailer.
+    assert_eq!(full, 300 * 1600 + 40 + 16 + 12);
+    let h = report(&with_marks(""));
+    let h = h.props[0].hardware.as_ref().unwrap();
+    assert_eq!(
+        (h.full_table_bytes, h.compact_table_bytes, h.program_bytes),
+        (full, compact, program)
+    );
+    assert!(program < compact);
+    let fits = |bytes: u64| {
+        let kb = bytes as f64 / 1024.0;
+        let r = report(&with_marks(&format!("table_memory_kb = {kb}")));
+        r.props[0].hardware.as_ref().unwrap().forms_that_fit.clone()
+    };
+    assert_eq!(fits(compact), vec!["program", "compact"]);
+    assert_eq!(fits(compact - 1), vec!["program"]);
+    assert_eq!(fits(full), vec!["program", "compact", "full"]);
+    assert_eq!(fits(full - 1), vec!["program", "compact"]);
+}

@@ -65,12 +65,23 @@ pub fn build_c(out: &Path, sources: &[PathBuf], extra: &[&str]) {
     assert!(status.success(), "cc failed for {}", out.display());
 }
 
+/// The C sources of the program form's reference player, in
+/// `firmware-formats/` (the frames, and the container with its checks).
+pub const PLAYER_SOURCES: [&str; 2] = ["glowscore_program.c", "glowscore_program_open.c"];
+
+/// `PLAYER_SOURCES` as paths.
+pub fn player_sources() -> Vec<PathBuf> {
+    let fw = firmware_formats();
+    PLAYER_SOURCES.iter().map(|f| fw.join(f)).collect()
+}
+
 /// Builds the reference decoder's driver (`firmware-formats/test_decode.c`,
-/// `glowscore_table.c` and `glowscore_program.c`) into `out` with
+/// `glowscore_table.c` and the player's [`PLAYER_SOURCES`]) into `out` with
 /// [`build_c`], plus `extra` flags.
 pub fn build_decoder(out: &Path, extra: &[&str]) {
     let fw = firmware_formats();
-    let sources = ["test_decode.c", "glowscore_table.c", "glowscore_program.c"].map(|f| fw.join(f));
+    let mut sources = vec![fw.join("test_decode.c"), fw.join("glowscore_table.c")];
+    sources.extend(player_sources());
     build_c(out, &sources, extra);
 }
 

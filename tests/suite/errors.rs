@@ -190,3 +190,34 @@ fn a_huge_invalid_show_reports_every_error_and_prints_fifty() {
         &text[text.len() - 200..]
     );
 }
+
+#[test]
+fn more_resync_bars_than_a_table_header_holds_are_refused_at_the_key() {
+    // A table header's length is a u16: 40 bytes and 8 a mark hold 8186
+    // marks (firmware-formats/full-table.md, "Resync marks").
+    let show = |n: u32| {
+        let bars: Vec<String> = (1..=n).map(|b| b.to_string()).collect();
+        format!(
+            "[show]\nframe_rate = 10\nbpm = 1000\nresync_bars = [{}]\n\
+             [prop.p]\ntether_m = 0.5\nanchor_m = [0, 1.5, 0]\n\
+             [pattern.w]\nplane = \"wall\"\nbeats = 4\nhand_radius_m = 0.1\nhead_turns = 1\n\
+             [[section]]\nbars = [1, 9000]\np = \"w\"\n",
+            bars.join(", ")
+        )
+    };
+    let ok = glowscore::show::parse("marks.toml", show(8186)).unwrap();
+    assert_eq!(ok.resync_bars.len(), 8186);
+    let err = glowscore::show::parse("marks.toml", show(8187)).unwrap_err();
+    assert_eq!(err.error_count(), 1);
+    let (line, col) = {
+        let l = err.0[0].location().unwrap();
+        (l.1, l.2)
+    };
+    assert_eq!((line, col), (4, 15));
+    let text = err.to_string();
+    assert!(
+        text.contains("show.resync_bars")
+            && text.contains("8187 resync bars are more than a table can mark (8186)"),
+        "{text}"
+    );
+}

@@ -88,6 +88,37 @@ fn full_table_example_matches_the_document() {
 }
 
 #[test]
+fn full_table_example_with_marks_matches_the_document() {
+    // The same frames with one resync mark, bar 1 on frame 1: version 2.
+    let (spec, frames) = small_example();
+    let mut out = Vec::new();
+    let marks = [glowscore::output::Mark { frame: 1, bar: 1 }];
+    write(
+        FullTableWriter::with_marks(&mut out, spec, &marks).unwrap(),
+        &frames,
+    );
+    let text = doc("full-table.md");
+    let dump = hexdump_bytes(&block(&text, "## Worked example with marks", "hexdump"));
+    assert_eq!(
+        dump.iter()
+            .map(|b| format!("{b:02x}"))
+            .collect::<Vec<_>>()
+            .join(" "),
+        out.iter()
+            .map(|b| format!("{b:02x}"))
+            .collect::<Vec<_>>()
+            .join(" ")
+    );
+    let crc = crc32fast::hash(&out[..out.len() - 4]);
+    assert!(
+        flat(&text).contains(&format!("CRC-32 `0x{crc:08X}`")),
+        "the prose names CRC-32 0x{crc:08X}"
+    );
+    let view = read_table(&out).unwrap();
+    assert_eq!(view.marks().collect::<Vec<_>>(), marks);
+}
+
+#[test]
 fn compact_table_example_matches_the_document() {
     // Frames as the document's table describes them, computed here from its formulas.
     let mut frames = vec![vec![[1, 2, 3], [4, 5, 6]], vec![[9, 8, 7], [6, 5, 4]]];

@@ -1,7 +1,10 @@
-//! Property tests: the compact encoder is lossless on any frames, and the reader never panics.
+//! Property tests: the compact encoder is lossless on any frames, resync marks (version 2)
+//! read back as written, and the reader never panics.
 
 use glowscore::model::WireOrder;
-use glowscore::output::{CompactTableWriter, FrameWriter, FullTableWriter, TableSpec, read_table};
+use glowscore::output::{
+    CompactTableWriter, FrameWriter, FullTableWriter, Mark, TableSpec, read_table,
+};
 use proptest::prelude::*;
 
 /// A stretch of frames: a hold, a ramp by the documented fade rule, or noise.
@@ -66,6 +69,28 @@ fn encode<F: FrameWriter>(mut w: F, frames: &[Vec<[u8; 3]>]) {
     w.finish().unwrap();
 }
 
+/// Valid resync marks for `frames` frames from arbitrary picks: frames
+/// sorted (repeats allowed), bars increasing by 1 to 4.
+fn marks_of(picks: &[(prop::sample::Index, u8)], frames: usize) -> Vec<Mark> {
+    if frames == 0 {
+        return Vec::new();
+    }
+    let mut at: Vec<u32> = picks.iter().map(|(i, _)| i.index(frames) as u32).collect();
+    at.sort_unstable();
+    let mut bar = 0;
+    at.iter()
+        .zip(picks)
+        .map(|(&frame, (_, gap))| {
+            bar += 1 + u32::from(gap % 4);
+            Mark { frame, bar }
+        })
+        .collect()
+}
+
+fn marks() -> impl Strategy<Value = Vec<(prop::sample::Index, u8)>> {
+    prop::collection::vec((any::<prop::sample::Index>(), any::<u8>()), 0..5)
+}
+
 fn case() -> impl Strategy<Value = (usize, WireOrder, Vec<Piece>)> {
     (1usize..5, order()).prop_flat_map(|(leds, o)| {
         (
@@ -80,8 +105,9 @@ proptest! {
     #![proptest_config(ProptestConfig::with_cases(200))]
 
     #[test]
-    fn compact_and_full_decode_to_the_frames_pushed((leds, order, pieces) in case()) {
+    fn compact_and_full_decode_to_the_frames_pushed((leds, order, pieces) in case(), picks in marks()) {
         let frames = frames_of(&pieces);
+        let marks = marks_of(&picks, frames.len());
         let spec = TableSpec { frame_rate_hz: 100, leds: leds as u32, order, frame_count: frames.len() as u32 };
         let fs = spec.frame_size() as usize;
         let want: Vec<u8> = frames.iter().flat_map(|f| {
@@ -90,11 +116,13 @@ proptest! {
             w
         }).collect();
         let mut full = Vec::new();
-        encode(FullTableWriter::new(&mut full, spec).unwrap(), &frames);
+        encode(FullTableWriter::with_marks(&mut full, spec, &marks).unwrap(), &frames);
         let mut compact = Vec::new();
-        encode(CompactTableWriter::new(&mut compact, spec).unwrap(), &frames);
+        encode(CompactTableWriter::with_marks(&mut compact, spec, &marks).unwrap(), &frames);
         for bytes in [&full, &compact] {
             let view = read_table(bytes).unwrap();
+            prop_assert_eq!(view.version(), if marks.is_empty() { 1 } else { 2 });
+            prop_assert_eq!(view.marks().collect::<Vec<_>>(), marks.clone());
             let mut got = vec![0u8; want.len()];
             for (k, chunk) in got.chunks_mut(fs.max(1)).enumerate() {
                 view.frame(k as u32, chunk).unwrap();
@@ -109,11 +137,13 @@ proptest! {
     fn the_reader_never_panics_on_resealed_garbage(
         (leds, order, pieces) in case(),
         edits in prop::collection::vec((any::<prop::sample::Index>(), any::<u8>()), 1..6),
+        picks in marks(),
     ) {
         let frames = frames_of(&pieces);
+        let marks = marks_of(&picks, frames.len());
         let spec = TableSpec { frame_rate_hz: 100, leds: leds as u32, order, frame_count: frames.len() as u32 };
         let mut bytes = Vec::new();
-        encode(CompactTableWriter::new(&mut bytes, spec).unwrap(), &frames);
+        encode(CompactTableWriter::with_marks(&mut bytes, spec, &marks).unwrap(), &frames);
         let n = bytes.len();
         for (at, v) in edits {
             let i = at.index(n - 4);
@@ -123,6 +153,9 @@ proptest! {
         bytes[n - 4..].copy_from_slice(&crc.to_le_bytes());
         // Whatever it says, it must say it without panicking; an accepted table reads fully.
         if let Ok(view) = read_table(&bytes) {
+            let read: Vec<Mark> = view.marks().collect();
+            prop_assert_eq!(read.len() as u32, view.mark_count());
+            prop_assert!(read.iter().all(|m| m.frame < view.spec().frame_count && m.bar > 0));
             let mut buf = vec![0u8; view.frame_size()];
             for k in 0..view.spec().frame_count {
                 prop_assert!(view.frame(k, &mut buf).is_ok());

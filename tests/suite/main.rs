@@ -33,6 +33,7 @@ mod preview_physics;
 mod program;
 mod readme_keys;
 mod refusals;
+mod resync;
 mod staff_kinematics;
 mod strips;
 mod trade_facts;

@@ -1,5 +1,6 @@
 //! The program form against the full tables: the reference player
-//! (`firmware-formats/glowscore_program.c`, built with `cc`) computes every
+//! (`firmware-formats/glowscore_program.c` and `glowscore_program_open.c`,
+//! built with `cc`) computes every
 //! frame of every demo show and bench fixture, and each byte is within 1 of
 //! the table's, with at least 99.9 % identical. Outside checks: the CRC-32
 //! check value, the IEC 61966-2-1 decode table, and the player's motion on
@@ -226,8 +227,9 @@ fn harness() -> &'static Path {
         let src = dir.join("harness.c");
         std::fs::write(&src, HARNESS).unwrap();
         let exe = dir.join("harness");
-        let player = common::firmware_formats().join("glowscore_program.c");
-        common::build_c(&exe, &[src, player], &[]);
+        let mut sources = vec![src];
+        sources.extend(common::player_sources());
+        common::build_c(&exe, &sources, &[]);
         exe
     })
 }

@@ -181,7 +181,7 @@ fn outputs_too_large_are_refused_before_writing_with_the_options_that_avoid_them
     let show = glowscore::show::parse_bytes("big.toml", std::fs::read(&file).unwrap()).unwrap();
     let frames = show.frame_count();
     let opts = glowscore::compile::CompileOptions::new(out.clone());
-    let parts = glowscore::compile::output_bytes(&show, &opts);
+    let parts = glowscore::compile::output_bytes(&show, &opts, &[]);
     let csv = parts.iter().find(|p| p.0 == "csv").unwrap().1;
     let head: u64 = 13
         + (0..4096u64)
@@ -214,6 +214,7 @@ fn a_full_disk_names_the_file_and_says_so() {
         },
         prop: "left",
         header_form: TableForm::Compact,
+        marks: &[],
         program: &[],
         skip: &[],
     };

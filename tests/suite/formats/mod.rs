@@ -4,6 +4,7 @@
 
 mod compact;
 mod full;
+mod marks;
 mod rules;
 mod streaming;
 mod text;
@@ -16,7 +17,7 @@ use std::process::Command;
 
 use glowscore::model::WireOrder;
 use glowscore::output::{
-    CHeaderWriter, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, OutputError,
+    CHeaderWriter, CompactTableWriter, CsvWriter, FrameWriter, FullTableWriter, Mark, OutputError,
     ReadError, SegmentKind, TableForm, TableSpec, WriteStats, read_table,
 };
 
@@ -235,10 +236,27 @@ fn push_all<F: FrameWriter>(mut w: F, frames: &[Vec<[u8; 3]>]) -> WriteStats {
 }
 
 fn table(form: TableForm, spec: TableSpec, frames: &[Vec<[u8; 3]>]) -> (Vec<u8>, WriteStats) {
+    table_with_marks(form, spec, &[], frames)
+}
+
+/// [`table`] with resync marks in its header (version 2 when there are any).
+fn table_with_marks(
+    form: TableForm,
+    spec: TableSpec,
+    marks: &[Mark],
+    frames: &[Vec<[u8; 3]>],
+) -> (Vec<u8>, WriteStats) {
     let mut out = Vec::new();
     let stats = match form {
-        TableForm::Full => push_all(FullTableWriter::new(&mut out, spec).unwrap(), frames),
-        TableForm::Compact => push_all(CompactTableWriter::new(&mut out, spec).unwrap(), frames),
+        TableForm::Full => push_all(
+            FullTableWriter::with_marks(&mut out, spec, marks).unwrap(),
+            frames,
+        ),
+        TableForm::Compact => push_all(
+            CompactTableWriter::with_marks(&mut out, spec, marks).unwrap(),
+            frames,
+        ),
+        TableForm::Program => panic!("the program form is made from a show, not from frames"),
     };
     assert_eq!(stats.bytes_written, out.len() as u64);
     assert_eq!(stats.table_bytes, Some(out.len() as u64));

@@ -51,8 +51,8 @@ fn resealed_tables_that_break_a_rule_are_refused_by_both_decoders() {
     type Edit = Box<dyn Fn(&mut Vec<u8>)>;
     let cases: Vec<(&str, Edit, &str)> = vec![
         (
-            "version 2",
-            Box::new(|b| b[4] = 2),
+            "version 3",
+            Box::new(|b| b[4] = 3),
             "error: unsupported version",
         ),
         (
@@ -145,6 +145,12 @@ fn resealed_tables_that_break_a_rule_are_refused_by_both_decoders() {
             "fade underflows",
             Box::new(move |b| put_u32(b, data + 6 + 6, (-(200i32 << 16)) as u32)),
             "error: bad segment index",
+        ),
+        // Version 2 needs room in the header for its mark count.
+        (
+            "version 2 without marks",
+            Box::new(|b| b[4] = 2),
+            "error: bad header",
         ),
         (
             "magic",
