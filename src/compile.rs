@@ -402,16 +402,16 @@ fn write_all(
     // Within u32: `check_limits` has passed.
     let frames = show.frame_count() as u32;
     // The previews read every frame again: with the frames kept (made
-    // once, here, in parallel), the tables, the light figures and the
+    // once, first, in parallel), the tables, the light figures and the
     // pictures all read the same frames and none is made twice. The
     // pictures are drawn while the tables are written, and the checks of
-    // the motion alone run beside both.
+    // the motion alone run beside all of it from the start.
     let previews = opts.previews;
-    if previews {
-        prepared.keep_frames();
-    }
     let ((written, pictures), (motion, music)) = rayon::join(
         || {
+            if previews {
+                prepared.keep_frames();
+            }
             rayon::join(
                 || {
                     let written = write_tables(prepared, frames, opts, programs, dir, progress);

@@ -317,15 +317,16 @@ fn scout_points(
     (t0, t1): (f64, f64),
     f: &mut dyn FnMut(&Vec3),
 ) -> Result<(), PreviewError> {
-    trail::for_each_chunk(
+    // Only where the light goes matters: runs end where a spot goes dark
+    // or lit, not at every change of colour.
+    trail::for_each_chunk_of(
         show,
         motions,
         lights,
-        t0,
-        t1,
+        (t0, t1),
         &|_| SCOUT_SPACING_M,
-        KERNEL_CHUNK,
-        trail::MAX_PIECES,
+        trail::Runs::Lit,
+        (KERNEL_CHUNK, trail::MAX_PIECES),
         &mut |chunk| {
             chunk.iter().for_each(|p| f(&p.pos));
             Ok(())

@@ -45,6 +45,12 @@ pub const MAX_FRAMES: u64 = 50_000_000;
 /// The most LED-frames (frames x LEDs, all props together) one exposure may
 /// span: a four-minute show of 144 LEDs at 1000 frames/s is 35 million.
 pub const MAX_LED_FRAMES: u64 = 250_000_000;
+/// How far, in point spacings, a spot may move within the short segments
+/// pooled into one point: half a spacing (three quarters of a glow width)
+/// widens the finest detail a painting or a chase draws along the path by
+/// about 2 % (a box of that length adds its variance, length^2 / 12, to the
+/// glow's).
+const POOL_SPACINGS: f64 = 0.5;
 /// Frames computed at a time (in parallel) while walking the trails.
 const BLOCK_FRAMES: u64 = 1024;
 
@@ -145,6 +151,16 @@ pub fn check_frames(show: &Show, t0: f64, t1: f64) -> Result<(), PreviewError> {
     Ok(())
 }
 
+/// What ends a spot's run of frames.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Runs {
+    /// Any change of its LEDs' bytes: the light as it is.
+    Bytes,
+    /// Only a change between dark and lit: where the light goes, each run
+    /// carrying its first frame's colour (for framing, not for drawing).
+    Lit,
+}
+
 /// A stretch of one spot's emission of constant light, to be cut into
 /// `steps` points of equal time.
 #[derive(Clone, Copy, Debug)]
@@ -167,16 +183,52 @@ struct SpotInfo {
 /// The span whose speed bound is cached, and the bound, m/s.
 type SpeedCache = Option<(usize, f64)>;
 
+/// Short segments of one spot pooled into one point: consecutive, in one
+/// span, together shorter than one step.
+#[derive(Clone, Copy, Debug)]
+struct Pool {
+    /// The span they are in (`None` at rest).
+    span: Option<usize>,
+    a: f64,
+    b: f64,
+    /// Light given off, LED-seconds per primary.
+    energy: [f64; 3],
+}
+
+impl Pool {
+    /// The pooled light as one segment of one step: the mean level over
+    /// the pool's time, so its energy is the sum of the parts'.
+    fn segment(&self, prop: usize, along_m: f64) -> Segment {
+        let t = self.b - self.a;
+        Segment {
+            prop,
+            along_m,
+            a: self.a,
+            b: self.b,
+            steps: 1,
+            level: self.energy.map(|e| e / t),
+        }
+    }
+}
+
+/// What the segments of one spot carry from one run to the next.
+#[derive(Default)]
+struct SpotState {
+    speed: SpeedCache,
+    pool: Option<Pool>,
+}
+
 /// What the walk keeps of one spot.
 struct SpotWalk {
     info: SpotInfo,
     /// The run being built: its start and end, seconds.
     open: Option<(f64, f64)>,
-    speed: SpeedCache,
+    state: SpotState,
 }
 
 /// Walks every prop's emission in the exposure [t0, t1) and hands each
 /// [`Segment`] to `sink`, in the fixed order of the module docs.
+#[allow(clippy::too_many_arguments)]
 fn walk(
     show: &Show,
     motions: &[PropMotion],
@@ -184,11 +236,12 @@ fn walk(
     t0: f64,
     t1: f64,
     spacing_m: &dyn Fn(usize) -> f64,
+    runs: Runs,
     sink: &mut dyn FnMut(&Segment) -> Result<(), PreviewError>,
 ) -> Result<(), PreviewError> {
     check_frames(show, t0, t1)?;
     for (p, motion) in motions.iter().enumerate() {
-        walk_prop(show, motion, lights, t0, t1, spacing_m(p), sink)?;
+        walk_prop(show, motion, lights, (t0, t1), spacing_m(p), runs, sink)?;
     }
     Ok(())
 }
@@ -197,9 +250,9 @@ fn walk_prop(
     show: &Show,
     motion: &PropMotion,
     lights: &Lights,
-    t0: f64,
-    t1: f64,
+    (t0, t1): (f64, f64),
     spacing_m: f64,
+    runs: Runs,
     sink: &mut dyn FnMut(&Segment) -> Result<(), PreviewError>,
 ) -> Result<(), PreviewError> {
     let p = motion.prop;
@@ -221,7 +274,7 @@ fn walk_prop(
                 leds: s.leds,
             },
             open: None,
-            speed: None,
+            state: SpotState::default(),
         })
         .collect();
     let cutter = Cutter {
@@ -256,7 +309,14 @@ fn walk_prop(
             }
             for spot in &mut spots {
                 let same = matches!(spot.open, Some((_, end)) if end == a)
-                    && spot.info.leds.iter().all(|&l| frame[l] == run_bytes[l]);
+                    && match runs {
+                        Runs::Bytes => spot.info.leds.iter().all(|&l| frame[l] == run_bytes[l]),
+                        Runs::Lit => spot
+                            .info
+                            .leds
+                            .iter()
+                            .all(|&l| (frame[l] == [0; 3]) == (run_bytes[l] == [0; 3])),
+                    };
                 if same {
                     if let Some(run) = spot.open.as_mut() {
                         run.1 = b;
@@ -264,7 +324,7 @@ fn walk_prop(
                     continue;
                 }
                 if let Some((ra, rb)) = spot.open {
-                    let s = &mut spot.speed;
+                    let s = &mut spot.state;
                     cutter.close(&spot.info, s, ra, rb, &run_bytes, &mut duties, sink)?;
                 }
                 spot.open = Some((a, b));
@@ -277,8 +337,11 @@ fn walk_prop(
     }
     for spot in &mut spots {
         if let Some((ra, rb)) = spot.open.take() {
-            let s = &mut spot.speed;
+            let s = &mut spot.state;
             cutter.close(&spot.info, s, ra, rb, &run_bytes, &mut duties, sink)?;
+        }
+        if let Some(pool) = spot.state.pool.take() {
+            sink(&pool.segment(p, spot.info.along_m))?;
         }
     }
     Ok(())
@@ -301,7 +364,7 @@ impl Cutter<'_> {
     fn close(
         &self,
         spot: &SpotInfo,
-        speed: &mut SpeedCache,
+        state: &mut SpotState,
         a: f64,
         b: f64,
         bytes: &[[u8; 3]],
@@ -365,7 +428,7 @@ impl Cutter<'_> {
             let (sa, sb) = (prev, t);
             prev = t;
             let level = level_at(0.5 * (sa + sb));
-            self.segment(spot, speed, sa, sb, level, sink)
+            self.segment(spot, state, sa, sb, level, sink)
         };
         let mut to = |t: f64| -> Result<(), PreviewError> {
             while bi < self.bounds.len() && self.bounds[bi] < t.min(b) {
@@ -391,12 +454,18 @@ impl Cutter<'_> {
     }
 
     /// Hands the segment [a, b) of `spot` at `level` to `sink`, with its
-    /// number of steps from the speed bound of the spot's path.
+    /// number of steps from the speed bound of the spot's path. A segment
+    /// shorter than one step is pooled with the spot's next ones (in the
+    /// same span, back to back) until together they would move the spot
+    /// further than the spacing: one point then carries their summed light
+    /// at the middle of their time, as a step of a longer run would. So a
+    /// spot whose colour changes every frame (a painting, a fast chase)
+    /// makes a point per spacing, not a point per frame.
     #[allow(clippy::too_many_arguments)]
     fn segment(
         &self,
         spot: &SpotInfo,
-        speed: &mut SpeedCache,
+        state: &mut SpotState,
         a: f64,
         b: f64,
         level: [f64; 3],
@@ -407,25 +476,45 @@ impl Cutter<'_> {
         }
         let tempo = &self.show.tempo;
         let mid = 0.5 * (a + b);
-        let vmax = match self.motion.span_at_beat(tempo.beat_at_time(mid)) {
-            Some(i) => match *speed {
+        let span = self.motion.span_at_beat(tempo.beat_at_time(mid));
+        let vmax = match span {
+            Some(i) => match state.speed {
                 Some((j, v)) if j == i => v,
                 _ => {
-                    let span = &self.motion.spans[i];
-                    let v = speed_bound(&span.point_curve(spot.along_m), span, tempo);
-                    *speed = Some((i, v));
+                    let sp = &self.motion.spans[i];
+                    let v = speed_bound(&sp.point_curve(spot.along_m), sp, tempo);
+                    state.speed = Some((i, v));
                     v
                 }
             },
             None => 0.0,
         };
-        let steps = if vmax > 0.0 {
-            ((b - a) * vmax / self.spacing_m).ceil().max(1.0)
-        } else {
-            1.0
-        };
+        let prop = self.motion.prop;
+        let pool_m = POOL_SPACINGS * self.spacing_m;
+        let short = (b - a) * vmax <= pool_m;
+        if short {
+            let energy = level.map(|l| l * (b - a));
+            match state.pool.as_mut() {
+                Some(pool) if pool.b == a && pool.span == span && (b - pool.a) * vmax <= pool_m => {
+                    pool.b = b;
+                    for (e, add) in pool.energy.iter_mut().zip(energy) {
+                        *e += add;
+                    }
+                    return Ok(());
+                }
+                _ => {}
+            }
+            if let Some(pool) = state.pool.replace(Pool { span, a, b, energy }) {
+                sink(&pool.segment(prop, spot.along_m))?;
+            }
+            return Ok(());
+        }
+        if let Some(pool) = state.pool.take() {
+            sink(&pool.segment(prop, spot.along_m))?;
+        }
+        let steps = ((b - a) * vmax / self.spacing_m).ceil().max(1.0);
         sink(&Segment {
-            prop: self.motion.prop,
+            prop,
             along_m: spot.along_m,
             a,
             b,
@@ -465,13 +554,22 @@ pub fn count(
     limit: u64,
 ) -> Result<u64, PreviewError> {
     let mut total: u64 = 0;
-    walk(show, motions, lights, t0, t1, spacing_m, &mut |s| {
-        total = total.saturating_add(s.steps);
-        if total > limit {
-            return Err(too_many());
-        }
-        Ok(())
-    })?;
+    walk(
+        show,
+        motions,
+        lights,
+        t0,
+        t1,
+        spacing_m,
+        Runs::Bytes,
+        &mut |s| {
+            total = total.saturating_add(s.steps);
+            if total > limit {
+                return Err(too_many());
+            }
+            Ok(())
+        },
+    )?;
     Ok(total)
 }
 
@@ -502,6 +600,32 @@ pub fn for_each_chunk(
     limit: u64,
     f: &mut dyn FnMut(&[Piece]) -> Result<(), PreviewError>,
 ) -> Result<u64, PreviewError> {
+    for_each_chunk_of(
+        show,
+        motions,
+        lights,
+        (t0, t1),
+        spacing_m,
+        Runs::Bytes,
+        (chunk, limit),
+        f,
+    )
+}
+
+/// [`for_each_chunk`] with the runs ended by `runs`: [`Runs::Lit`] makes
+/// the points of where the light goes, not of its colours, with far fewer
+/// runs where the colours change every frame (a painting).
+#[allow(clippy::too_many_arguments)]
+pub fn for_each_chunk_of(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    (t0, t1): (f64, f64),
+    spacing_m: &dyn Fn(usize) -> f64,
+    runs: Runs,
+    (chunk, limit): (usize, u64),
+    f: &mut dyn FnMut(&[Piece]) -> Result<(), PreviewError>,
+) -> Result<u64, PreviewError> {
     let chunk = chunk.max(1);
     let mut steps: Vec<Step> = Vec::with_capacity(chunk);
     let mut pieces: Vec<Piece> = Vec::with_capacity(chunk);
@@ -519,7 +643,7 @@ pub fn for_each_chunk(
         steps.clear();
         f(&pieces)
     };
-    walk(show, motions, lights, t0, t1, spacing_m, &mut |s| {
+    walk(show, motions, lights, t0, t1, spacing_m, runs, &mut |s| {
         total = total.saturating_add(s.steps);
         if total > limit {
             return Err(too_many());
