@@ -25,6 +25,7 @@
 
 pub mod blur;
 pub mod camera;
+pub mod choice;
 pub mod overlay;
 pub mod png;
 pub mod splat;
