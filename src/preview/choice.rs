@@ -417,14 +417,14 @@ mod tests {
             let mut s = String::from(
                 "[show]\ntitle = \"t\"\nframe_rate = 100\nbpm = 120\nbeats_per_bar = 4\n\n",
             );
-            for i in 0..3 {
+            for (i, plane) in planes.iter().enumerate() {
                 s += &format!(
                     "[prop.p{i}]\nkind = \"poi\"\ntether_m = 0.5\nanchor_m = [{}.0, 1.4, 0.0]\nleds = 1\n\n",
                     2 * i
                 );
                 s += &format!(
                     "[pattern.a{i}]\nplane = \"{}\"\nbeats = 2\nhand_radius_m = 0.1\nhead_turns = 1\n\n",
-                    planes[i]
+                    plane
                 );
             }
             s += "[[section]]\nbars = [1, 2]\n";

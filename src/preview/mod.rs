@@ -6,6 +6,8 @@
 //! there), [`splat`] (the sensor: Gaussian glows summed in linear light, in
 //! parallel and in a fixed order), [`tone`] (metering, highlight shoulder,
 //! sRGB encoding), [`overlay`] (the scale bar) and [`png`] (the file).
+//! [`choice`] picks each section preview's exposure and view for
+//! [`write_previews`].
 //!
 //! Every LED is drawn where it is: at `hand + along_m * dir`, its signed
 //! distance from the grip along the prop (a poi head's LEDs all at the

@@ -1,5 +1,5 @@
-//! Section previews a person can read (docs/conventions.md, "Section
-//! previews"): a section whose colours move round the figure is exposed for
+//! Section previews a person can read, by the rule of
+//! docs/conventions.md, "Section previews": a section whose colours move round the figure is exposed for
 //! one figure, so its hues stay apart instead of washing into one blend; a
 //! wheel-plane section is drawn from the side; compile's summary and
 //! `report.json` say what was chosen; the pictures are the same bytes every
@@ -32,7 +32,7 @@ fn show_text(prop: &str, plane: &str, cue: &str) -> String {
 /// beat: after one figure (two beats) the colours stand two places on, so
 /// a second figure would paint other colours over the first's.
 const CHASE: (&str, &str) = (
-    "leds = 12\nstrip = { leds = 12, from_m = 0.1, to_m = 0.5 }",
+    "strip = { leds = 12, from_m = 0.1, to_m = 0.5 }",
     "at = \"beat\"\nalong = \"chase\"\nchase_leds_per_beat = 3\nchase_width_leds = 2\n\
      colours = [\"red\", \"lime\", \"blue\"]",
 );
