@@ -80,6 +80,8 @@ pub struct CompileSummary {
     pub tables: Vec<(String, PropTables)>,
     /// Preview file names.
     pub previews: Vec<String>,
+    /// What each preview shows, in the order of `previews`.
+    pub preview_choices: Vec<PreviewChoice>,
     /// The landing furthest along the head's path, if any change was placed.
     #[serde(skip)]
     pub worst_landing: Option<Landing>,
@@ -89,6 +91,82 @@ pub struct CompileSummary {
     pub dimmed: Vec<(String, f64)>,
     /// The song the tables belong to (a show with `music`).
     pub music: Option<SongRecord>,
+}
+
+/// What one preview shows and why: an entry of `compile.preview_choices`
+/// in `report.json` (docs/conventions.md, "Section previews").
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct PreviewChoice {
+    /// The file's name.
+    pub file: String,
+    /// The section's first and last bar; `None` for the whole show.
+    pub bars: Option<[u32; 2]>,
+    /// `front`, `side` or `top`; `camera` for the pinhole the options gave.
+    pub view: &'static str,
+    /// `show` (the whole show), `section` (the whole section) or `figures`
+    /// (whole figures from the section's start, fewer than it holds).
+    pub exposure: &'static str,
+    /// Whole figures in the exposure (0: the section is shorter than one
+    /// figure, or no figure closes; `None` for the whole show).
+    pub figures: Option<u32>,
+    /// Beats one figure takes to close (`None`: no figure closes, or the
+    /// whole show).
+    #[serde(serialize_with = "opt_r9")]
+    pub figure_beats: Option<f64>,
+    /// Shutter open and close, seconds from frame 0.
+    pub window_s: [f64; 2],
+    /// `show` (exposed with the whole show, in its framing) or `own`.
+    pub framing: &'static str,
+    /// The choice in words, as the summary prints it.
+    pub words: String,
+}
+
+impl PreviewChoice {
+    /// The record of preview `w` of `show`.
+    pub fn of(w: &preview::Written, show: &crate::model::Show) -> PreviewChoice {
+        use preview::choice::Exposure;
+        let r9 = |x: f64| crate::num::round_to(x, 9);
+        let (exposure, figures, figure_beats, window_s) = match &w.choice {
+            None => ("show", None, None, [0.0, r9(show.end_s())]),
+            Some(c) => {
+                let (kind, n, f) = match c.exposure {
+                    Exposure::Figures {
+                        count,
+                        figure_beats,
+                        covers_section,
+                    } => (
+                        if covers_section { "section" } else { "figures" },
+                        count,
+                        Some(figure_beats),
+                    ),
+                    Exposure::PartFigure { figure_beats } => ("section", 0, Some(figure_beats)),
+                    Exposure::NoFigure => ("section", 0, None),
+                };
+                (kind, Some(n), f, [r9(c.window_s.0), r9(c.window_s.1)])
+            }
+        };
+        PreviewChoice {
+            file: w.file_name(),
+            bars: w.choice.map(|c| {
+                let sec = &show.sections[c.section];
+                [sec.first_bar, sec.last_bar]
+            }),
+            view: w.view.map_or("camera", preview::View::name),
+            exposure,
+            figures,
+            figure_beats,
+            window_s,
+            framing: if w.shared { "show" } else { "own" },
+            words: w.words(show),
+        }
+    }
+}
+
+fn opt_r9<S: serde::Serializer>(x: &Option<f64>, s: S) -> Result<S::Ok, S::Error> {
+    match x {
+        Some(v) => s.serialize_some(&crate::num::round_to(*v, 9)),
+        None => s.serialize_none(),
+    }
 }
 
 /// Which song a compile's tables belong to: `compile.music` in
@@ -436,13 +514,11 @@ fn write_all(
     let (tables, figures) = written?;
     let motion = motion?;
     let report = crate::check::report_of(prepared, motion, figures, music?, settings);
-    let previews = match pictures {
-        Some(p) => p?
-            .iter()
-            .filter_map(|p| p.file_name().map(|n| n.to_string_lossy().into_owned()))
-            .collect(),
+    let preview_choices: Vec<PreviewChoice> = match pictures {
+        Some(p) => p?.iter().map(|w| PreviewChoice::of(w, show)).collect(),
         None => Vec::new(),
     };
+    let previews = preview_choices.iter().map(|c| c.file.clone()).collect();
     let worst_landing = lights
         .landings
         .iter()
@@ -455,6 +531,7 @@ fn write_all(
         duration_s: show.end_s(),
         tables,
         previews,
+        preview_choices,
         worst_landing,
         warnings: report.warnings.len(),
         dimmed: (0..show.props.len())
@@ -493,6 +570,8 @@ struct CompileSection<'a> {
     #[serde(serialize_with = "pairs_as_map")]
     tables: &'a [(String, PropTables)],
     previews: &'a [String],
+    /// What each preview shows, in the order of `previews`.
+    preview_choices: &'a [PreviewChoice],
     /// Per dimmed prop, the scale `brightness_limit` applied.
     #[serde(serialize_with = "pairs_as_map")]
     brightness_scale_applied: &'a [(String, f64)],
@@ -525,6 +604,7 @@ fn write_report(
             duration_s: crate::num::round_to(summary.duration_s, 9),
             tables: &summary.tables,
             previews: &summary.previews,
+            preview_choices: &summary.preview_choices,
             brightness_scale_applied: &summary.dimmed,
             music: summary.music.as_ref(),
         },

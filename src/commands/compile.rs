@@ -177,8 +177,13 @@ pub fn run(
         )
         .map_err(&io)?;
     }
-    if !summary.previews.is_empty() {
-        writeln!(log, "  previews: {}", summary.previews.join(", ")).map_err(&io)?;
+    for (i, c) in summary.preview_choices.iter().enumerate() {
+        let lead = if i == 0 {
+            "  previews: "
+        } else {
+            "            "
+        };
+        writeln!(log, "{lead}{} ({})", c.file, c.words).map_err(&io)?;
     }
     let expected = summary.warnings - report.unexpected_warnings();
     writeln!(

@@ -6,6 +6,8 @@
 //! there), [`splat`] (the sensor: Gaussian glows summed in linear light, in
 //! parallel and in a fixed order), [`tone`] (metering, highlight shoulder,
 //! sRGB encoding), [`overlay`] (the scale bar) and [`png`] (the file).
+//! [`choice`] picks each section preview's exposure and view for
+//! [`write_previews`].
 //!
 //! Every LED is drawn where it is: at `hand + along_m * dir`, its signed
 //! distance from the grip along the prop (a poi head's LEDs all at the
@@ -25,6 +27,7 @@
 
 pub mod blur;
 pub mod camera;
+pub mod choice;
 pub mod overlay;
 pub mod png;
 pub mod splat;
@@ -276,6 +279,21 @@ impl Cloud {
         (self.n > 0).then_some((self.lo, self.hi))
     }
 
+    /// Adds the points of `other` (seen in the same view).
+    fn merge(&mut self, other: &Cloud) {
+        if other.n == 0 {
+            return;
+        }
+        if self.n == 0 {
+            (self.lo, self.hi) = (other.lo, other.hi);
+        } else {
+            self.lo = [self.lo[0].min(other.lo[0]), self.lo[1].min(other.lo[1])];
+            self.hi = [self.hi[0].max(other.hi[0]), self.hi[1].max(other.hi[1])];
+        }
+        self.sum += other.sum;
+        self.n += other.n;
+    }
+
     /// The mean position (the origin when empty).
     fn centre(&self) -> Vec3 {
         self.sum / self.n.max(1) as f64
@@ -291,12 +309,30 @@ fn scout(
     view: View,
     (t0, t1): (f64, f64),
 ) -> Result<Cloud, PreviewError> {
+    let lit = scout_lit(show, motions, lights, view, (t0, t1))?;
+    Ok(lit_or_ends(show, motions, lit, (t0, t1)))
+}
+
+/// Where the lit LEDs go in the exposure (coarsely), seen in `view`.
+fn scout_lit(
+    show: &Show,
+    motions: &[PropMotion],
+    lights: &Lights,
+    view: View,
+    (t0, t1): (f64, f64),
+) -> Result<Cloud, PreviewError> {
     let mut lit = Cloud::new(view);
     scout_points(show, motions, lights, (t0, t1), &mut |p| lit.add(p))?;
+    Ok(lit)
+}
+
+/// `lit`, or where each prop's ends are halfway through `(t0, t1)` when
+/// nothing is lit.
+fn lit_or_ends(show: &Show, motions: &[PropMotion], lit: Cloud, (t0, t1): (f64, f64)) -> Cloud {
     if lit.n > 0 {
-        return Ok(lit);
+        return lit;
     }
-    let mut all = Cloud::new(view);
+    let mut all = Cloud::new(lit.view);
     for m in motions {
         let st = m.state_at(&show.tempo, 0.5 * (t0 + t1));
         all.add(&st.head_m);
@@ -305,7 +341,7 @@ fn scout(
             all.add(&(st.hand_m + st.dir * end));
         }
     }
-    Ok(all)
+    all
 }
 
 /// Every point of light of the window `(t0, t1)` at the coarse spacing of
@@ -456,6 +492,7 @@ pub fn shoot(
 pub const PIECE_SPACING_SIGMAS: f64 = 1.5;
 
 /// A camera made for an exposure, and the spacing of its points of light.
+#[derive(Clone)]
 struct Setup {
     cam: Camera,
     /// Each prop's glow, metres.
@@ -473,7 +510,18 @@ impl Setup {
     fn new(
         prepared: &Prepared,
         opts: &PreviewOptions,
+        window: (f64, f64),
+    ) -> Result<Setup, PreviewError> {
+        Setup::with_cloud(prepared, opts, window, None)
+    }
+
+    /// [`Setup::new`], with the light of the window already scouted in
+    /// `opts.view` when `scouted` is given.
+    fn with_cloud(
+        prepared: &Prepared,
+        opts: &PreviewOptions,
         (t0, t1): (f64, f64),
+        scouted: Option<Cloud>,
     ) -> Result<Setup, PreviewError> {
         let (show, motions, lights) = (prepared.show(), prepared.motions(), prepared.lights());
         if !(opts.ev_stops.is_finite() && opts.ev_stops.abs() <= MAX_EV_STOPS) {
@@ -485,7 +533,10 @@ impl Setup {
         trail::check_frames(show, t0, t1)?;
         let needs_scout = opts.viewport.is_none() || opts.pinhole.is_some();
         let cloud = if needs_scout {
-            Some(scout(show, motions, lights, opts.view, (t0, t1))?)
+            match scouted {
+                Some(c) => Some(c),
+                None => Some(scout(show, motions, lights, opts.view, (t0, t1))?),
+            }
         } else {
             None
         };
@@ -546,89 +597,149 @@ impl Setup {
         film: &mut Film,
         progress: &(dyn Fn(u64) + Sync),
     ) -> Result<u64, PreviewError> {
-        let (show, motions, lights) = (prepared.show(), prepared.motions(), prepared.lights());
-        let cam = &self.cam;
-        let (w, h) = (cam.width, cam.height);
-        let mut done: u64 = 0;
-        // Orthographic views deposit each point and blur once per glow
-        // width (module `blur`); a pinhole's glows change with depth, so
-        // each point gets its own kernel.
-        let mut deposits = cam
-            .viewport()
-            .filter(|_| self.deposit)
-            .map(|_| blur::Deposits::new(w, h));
-        let mut groups: Vec<Option<usize>> = vec![None; self.glows.len()];
-        let made = trail::for_each_chunk(
-            show,
-            motions,
-            lights,
-            t0,
-            t1,
-            &|p| self.spacing_m(p),
-            KERNEL_CHUNK,
-            limit,
-            &mut |chunk| {
-                let n = chunk.len() as u64;
-                if let Some(dep) = deposits.as_mut() {
-                    let seen: Vec<Option<(usize, camera::Projected)>> = chunk
-                        .par_iter()
-                        .map(|p| cam.project(&p.pos).map(|q| (p.prop, q)))
-                        .collect();
-                    let mut rest = Vec::new();
-                    for ((prop, q), piece) in seen
-                        .into_iter()
-                        .zip(chunk)
-                        .filter_map(|(s, p)| s.map(|s| (s, p)))
-                    {
-                        let g = self.glows[prop];
-                        let e = piece.energy.map(|v| (v * q.gain) as f32);
-                        let group = match groups[prop] {
-                            Some(i) => Some(i),
-                            None => {
-                                let i = dep.group(g * q.scale_x, g * q.scale_y);
-                                groups[prop] = i;
-                                i
-                            }
-                        };
-                        match group {
-                            Some(i) => dep.deposit(i, q.px, q.py, e),
-                            None => rest.extend(splat::kernel(
-                                q.px,
-                                q.py,
-                                g * q.scale_x,
-                                g * q.scale_y,
-                                e,
-                                w,
-                                h,
-                            )),
-                        }
-                    }
-                    splat::accumulate_into(film, &rest, &|_, _| {});
-                    done += n;
-                    progress(done);
-                    return Ok(());
-                }
-                let kernels: Vec<splat::Kernel> = chunk
-                    .par_iter()
-                    .filter_map(|p| {
-                        let q = cam.project(&p.pos)?;
-                        let g = self.glows[p.prop];
-                        let e = p.energy.map(|v| (v * q.gain) as f32);
-                        splat::kernel(q.px, q.py, g * q.scale_x, g * q.scale_y, e, w, h)
-                    })
-                    .collect();
-                splat::accumulate_into(film, &kernels, &|d, bands| {
-                    progress(done + n * d / bands.max(1))
-                });
-                done += n;
-                Ok(())
-            },
-        )?;
-        if let Some(dep) = deposits {
-            dep.develop_into(film);
-        }
-        Ok(made)
+        let mut target = Target::new(self.clone(), std::mem::replace(film, Film::new(0, 0)));
+        let made = expose_all(prepared, (t0, t1), limit, &mut [&mut target], progress);
+        *film = target.into_film();
+        made
     }
+}
+
+/// A film being exposed through one camera: the glows of each chunk of
+/// points go onto it as they come (deposits are blurred onto it once, when
+/// it is taken out with [`Target::into_film`]).
+struct Target {
+    setup: Setup,
+    film: Film,
+    /// Orthographic views deposit each point and blur once per glow width
+    /// (module `blur`); a pinhole's glows change with depth, so each point
+    /// gets its own kernel.
+    deposits: Option<blur::Deposits>,
+    /// Per prop, its glow group in `deposits`, once known.
+    groups: Vec<Option<usize>>,
+}
+
+impl Target {
+    fn new(setup: Setup, film: Film) -> Self {
+        let cam = &setup.cam;
+        let deposits = cam
+            .viewport()
+            .filter(|_| setup.deposit)
+            .map(|_| blur::Deposits::new(cam.width, cam.height));
+        Target {
+            groups: vec![None; setup.glows.len()],
+            setup,
+            film,
+            deposits,
+        }
+    }
+
+    /// Adds the glows of `chunk`; `progress(d, bands)` while a chunk of
+    /// kernels is added.
+    fn take(&mut self, chunk: &[trail::Piece], progress: &(dyn Fn(u64, u64) + Sync)) {
+        let (cam, glows) = (&self.setup.cam, &self.setup.glows);
+        let (w, h) = (cam.width, cam.height);
+        if let Some(dep) = self.deposits.as_mut() {
+            let seen: Vec<Option<(usize, camera::Projected)>> = chunk
+                .par_iter()
+                .map(|p| cam.project(&p.pos).map(|q| (p.prop, q)))
+                .collect();
+            let mut rest = Vec::new();
+            for ((prop, q), piece) in seen
+                .into_iter()
+                .zip(chunk)
+                .filter_map(|(s, p)| s.map(|s| (s, p)))
+            {
+                let g = glows[prop];
+                let e = piece.energy.map(|v| (v * q.gain) as f32);
+                let group = match self.groups[prop] {
+                    Some(i) => Some(i),
+                    None => {
+                        let i = dep.group(g * q.scale_x, g * q.scale_y);
+                        self.groups[prop] = i;
+                        i
+                    }
+                };
+                match group {
+                    Some(i) => dep.deposit(i, q.px, q.py, e),
+                    None => rest.extend(splat::kernel(
+                        q.px,
+                        q.py,
+                        g * q.scale_x,
+                        g * q.scale_y,
+                        e,
+                        w,
+                        h,
+                    )),
+                }
+            }
+            splat::accumulate_into(&mut self.film, &rest, &|_, _| {});
+            return;
+        }
+        let kernels: Vec<splat::Kernel> = chunk
+            .par_iter()
+            .filter_map(|p| {
+                let q = cam.project(&p.pos)?;
+                let g = glows[p.prop];
+                let e = p.energy.map(|v| (v * q.gain) as f32);
+                splat::kernel(q.px, q.py, g * q.scale_x, g * q.scale_y, e, w, h)
+            })
+            .collect();
+        splat::accumulate_into(&mut self.film, &kernels, progress);
+    }
+
+    /// The film, with what was deposited blurred onto it.
+    fn into_film(mut self) -> Film {
+        if let Some(dep) = self.deposits.take() {
+            dep.develop_into(&mut self.film);
+        }
+        self.film
+    }
+}
+
+/// Adds the light of the window `(t0, t1)` to every target's film, refusing
+/// more than `limit` points; `progress(points)` as it goes. The points of
+/// light are made once, at the finest spacing any target needs, and each
+/// chunk goes onto the targets in their order. Returns the number of
+/// points made.
+fn expose_all(
+    prepared: &Prepared,
+    (t0, t1): (f64, f64),
+    limit: u64,
+    targets: &mut [&mut Target],
+    progress: &(dyn Fn(u64) + Sync),
+) -> Result<u64, PreviewError> {
+    let (show, motions, lights) = (prepared.show(), prepared.motions(), prepared.lights());
+    let props = show.props.len();
+    let spacings: Vec<f64> = (0..props)
+        .map(|p| {
+            targets
+                .iter()
+                .map(|t| t.setup.spacing_m(p))
+                .fold(f64::INFINITY, f64::min)
+        })
+        .collect();
+    let spacing = |p: usize| spacings[p];
+    let mut done: u64 = 0;
+    let made = trail::for_each_chunk(
+        show,
+        motions,
+        lights,
+        t0,
+        t1,
+        &spacing,
+        KERNEL_CHUNK,
+        limit,
+        &mut |chunk| {
+            let n = chunk.len() as u64;
+            for t in targets.iter_mut() {
+                t.take(chunk, &|d, bands| progress(done + n * d / bands.max(1)));
+            }
+            done += n;
+            progress(done);
+            Ok(())
+        },
+    )?;
+    Ok(made)
 }
 
 /// Develops `photo` into the 8-bit sRGB picture (with the scale bar if asked).
@@ -658,73 +769,246 @@ pub fn section_file_name(a: u32, b: u32) -> String {
 /// File name of the whole-show preview written by [`write_previews`].
 pub const SHOW_FILE_NAME: &str = "preview.png";
 
+/// A section preview whose own framing, fitted to its light, is at least
+/// this share as wide as the whole show's may be drawn in the whole show's
+/// framing (and share its exposure): its figure is then drawn at least this
+/// share as large as on its own.
+pub const SHARED_FRAMING: f64 = 0.6;
+
+/// A picture [`write_previews`] wrote, and what it shows.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Written {
+    /// The file.
+    pub path: PathBuf,
+    /// The section's choice ([`choice::choose`]); `None` for the whole show.
+    pub choice: Option<choice::Choice>,
+    /// The orthographic view it was drawn from (`None`: the pinhole camera
+    /// the options gave).
+    pub view: Option<View>,
+    /// Whether its light was exposed with the whole show's and it is framed
+    /// like the whole show (otherwise it was exposed and framed on its own).
+    pub shared: bool,
+}
+
+impl Written {
+    /// The file's name.
+    pub fn file_name(&self) -> String {
+        self.path
+            .file_name()
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_default()
+    }
+
+    /// What it shows, in words: `the whole show, front view` or `bars 9-10:
+    /// one figure (8 beats), side view, framed on its own`.
+    pub fn words(&self, show: &Show) -> String {
+        let view = match self.view {
+            Some(v) => format!("{} view", v.name()),
+            None => "the camera given".into(),
+        };
+        let Some(c) = &self.choice else {
+            return format!("the whole show, {view}");
+        };
+        let framing = if self.shared {
+            "framed with the whole show"
+        } else {
+            "framed on its own"
+        };
+        format!(
+            "{}: {}, {view}, {framing}",
+            beats_words(show, c.beats),
+            c.exposure_words()
+        )
+    }
+}
+
+/// Global beats `(b0, b1)` from a bar's start in words: `bars 9-10`,
+/// `bar 3`, or `2 beats from bar 9` when they are not whole bars.
+fn beats_words(show: &Show, (b0, b1): (f64, f64)) -> String {
+    let bpb = f64::from(show.tempo.beats_per_bar());
+    let first = show.tempo.bar_beat(b0).0;
+    let bars = (b1 - b0) / bpb;
+    if (bars - bars.round()).abs() < 1e-6 && bars.round() >= 1.0 {
+        let last = first + bars.round() as i64 - 1;
+        if last == first {
+            format!("bar {first}")
+        } else {
+            format!("bars {first}-{last}")
+        }
+    } else {
+        let beats = crate::num::round_to(b1 - b0, 3);
+        format!(
+            "{beats} beat{} from bar {first}",
+            if beats == 1.0 { "" } else { "s" }
+        )
+    }
+}
+
+/// How a section's preview is exposed.
+enum Plan {
+    /// With the whole show's film, in its framing.
+    Shared,
+    /// On its own, with its own camera.
+    Own(Box<Setup>),
+}
+
 /// Renders the whole show ([`SHOW_FILE_NAME`]) and each section
-/// ([`section_file_name`]) into `dir`, all framed like the whole show
-/// (unless `opts` fixes the viewport or the camera). Everything is rendered
-/// before anything is written; each file is written atomically. The
-/// shutter of `opts` is ignored. Returns the files written, show first.
+/// ([`section_file_name`]) into `dir`. Everything is rendered before
+/// anything is written; each file is written atomically. The shutter of
+/// `opts` is ignored. Returns the files written, show first, with what
+/// each shows.
 ///
-/// One pass over the frames makes them all: each section's light is
-/// exposed once, onto its own film, which is then added to the whole
-/// show's film (with the light between and around the sections), so no
-/// point of light is made or drawn twice. Each picture is metered on its
-/// own.
+/// The whole show is drawn in `opts`'s view over the whole show. Each
+/// section is exposed and viewed as [`choice::choose`] picks (its view
+/// only when `opts` fixes neither the viewport nor the camera), framed to
+/// its own light. A section exposed whole, in the whole show's view, whose
+/// own framing is close to the whole show's ([`SHARED_FRAMING`]) shares
+/// the whole show's exposure: its light is exposed once, onto its own
+/// film, which is then added to the whole show's film (with the light
+/// between and around such sections), so no point of light is made or
+/// drawn twice. Any other section's window is exposed through both cameras
+/// at once: its points of light are made once (at the finer spacing of the
+/// two) and drawn onto its own film and the whole show's. Each picture is
+/// metered on its own.
 pub fn write_previews(
     prepared: &Prepared,
     dir: &Path,
     opts: &PreviewOptions,
-) -> Result<Vec<PathBuf>, PreviewError> {
+) -> Result<Vec<Written>, PreviewError> {
     let show = prepared.show();
+    let (motions, lights) = (prepared.motions(), prepared.lights());
     let mut whole = opts.clone();
     whole.shutter = Shutter::default();
     let (t0, t1) = window(show, &whole.shutter)?;
-    let setup = Setup::new(prepared, &whole, (t0, t1))?;
+    let fixed = opts.viewport.is_some() || opts.pinhole.is_some();
+    let mut choices: Vec<choice::Choice> = (0..show.sections.len())
+        .map(|i| choice::choose(prepared, i))
+        .collect();
+    choices.sort_by(|x, y| x.window_s.0.total_cmp(&y.window_s.0));
+    let clip = |c: &choice::Choice| {
+        let a = c.window_s.0.max(t0);
+        (a, c.window_s.1.min(t1).max(a))
+    };
+    // The light is scouted window by window in the whole show's view (each
+    // section's window and the stretches between), so that a section seen
+    // in that view is framed without a second scout.
+    let mut scouted: Vec<Option<Cloud>> = vec![None; choices.len()];
+    let setup = if fixed {
+        Setup::new(prepared, &whole, (t0, t1))?
+    } else {
+        let mut all = Cloud::new(whole.view);
+        let mut covered = t0;
+        for (c, slot) in choices.iter().zip(scouted.iter_mut()) {
+            let (a, b) = clip(c);
+            if a > covered {
+                all.merge(&scout_lit(show, motions, lights, whole.view, (covered, a))?);
+            }
+            let (a, b) = (a.max(covered), b.max(covered));
+            let lit = scout_lit(show, motions, lights, whole.view, (a, b))?;
+            all.merge(&lit);
+            *slot = Some(lit_or_ends(show, motions, lit, (a, b)));
+            covered = covered.max(b);
+        }
+        if t1 > covered {
+            all.merge(&scout_lit(
+                show,
+                motions,
+                lights,
+                whole.view,
+                (covered, t1),
+            )?);
+        }
+        let all = lit_or_ends(show, motions, all, (t0, t1));
+        Setup::with_cloud(prepared, &whole, (t0, t1), Some(all))?
+    };
     let (w, h) = (setup.cam.width, setup.cam.height);
-    let mut film = Film::new(w, h);
+    let width_of = |cam: &Camera| cam.viewport().map_or(0.0, |(_, v)| v[2] - v[0]);
+    // Each section's plan, in time order.
+    let mut plans = Vec::new();
+    for (c, cloud) in choices.into_iter().zip(scouted) {
+        let mut own = whole.clone();
+        if !fixed {
+            own.view = c.view;
+        }
+        let (a, b) = clip(&c);
+        let same_view = own.view == whole.view;
+        let plan = if fixed && same_view && c.whole_section() {
+            Plan::Shared
+        } else {
+            let cloud = cloud.filter(|_| same_view);
+            let s = Setup::with_cloud(prepared, &own, (a, b), cloud)?;
+            let close = width_of(&s.cam) >= SHARED_FRAMING * width_of(&setup.cam);
+            if same_view && c.whole_section() && close {
+                Plan::Shared
+            } else {
+                Plan::Own(Box::new(s))
+            }
+        };
+        let view = (opts.pinhole.is_none()).then_some(own.view);
+        plans.push((c, (a, b), plan, view));
+    }
+    // The whole show's film, exposed window by window in time order and
+    // developed once at the end.
+    let mut show_target = Target::new(setup.clone(), Film::new(w, h));
     let mut budget = trail::MAX_PIECES;
     let mut made: u64 = 0;
     let mut pictures = Vec::new();
-    // The windows of the sections, in time order, clipped to the show's.
-    let mut windows = Vec::new();
-    for sec in &show.sections {
-        let shutter = Shutter {
-            bars: Some((sec.first_bar, sec.last_bar)),
-            ..Shutter::default()
-        };
-        let (a, b) = window(show, &shutter)?;
-        windows.push((sec, a.max(t0), b.min(t1)));
-    }
-    windows.sort_by(|x, y| x.1.total_cmp(&y.1));
     let mut covered = t0;
-    for (sec, a, b) in windows {
+    let mut expose = |targets: &mut [&mut Target], window, budget: &mut u64| {
+        let n = expose_all(prepared, window, *budget, targets, &|_| {})?;
+        *budget -= n;
+        made += n;
+        Ok::<u64, PreviewError>(n)
+    };
+    for (c, (a, b), plan, view) in plans {
+        let sec = &show.sections[c.section];
+        let written = Written {
+            path: dir.join(section_file_name(sec.first_bar, sec.last_bar)),
+            choice: Some(c),
+            view,
+            shared: matches!(plan, Plan::Shared),
+        };
         if a > covered {
-            let n = setup.expose(prepared, (covered, a), budget, &mut film, &|_| {})?;
-            budget -= n;
-            made += n;
+            expose(&mut [&mut show_target], (covered, a), &mut budget)?;
         }
-        let mut own = Film::new(w, h);
         let a = a.max(covered);
         let b = b.max(a);
-        let n = setup.expose(prepared, (a, b), budget, &mut own, &|_| {})?;
-        budget -= n;
-        made += n;
-        covered = covered.max(b);
-        let photo = Photo {
-            gain: tone::metered_gain(own.max(), whole.ev_stops),
-            film: own,
-            camera: setup.cam,
-            window_s: (a, b),
-            pieces: n as usize,
+        let photo = match plan {
+            Plan::Own(s) => {
+                // Made once, onto the whole show's film and its own.
+                let (cam, (cw, ch)) = (s.cam, (s.cam.width, s.cam.height));
+                let mut own = Target::new(*s, Film::new(cw, ch));
+                let n = expose(&mut [&mut show_target, &mut own], (a, b), &mut budget)?;
+                let own = own.into_film();
+                Photo {
+                    gain: tone::metered_gain(own.max(), whole.ev_stops),
+                    film: own,
+                    camera: cam,
+                    window_s: (a, b),
+                    pieces: n as usize,
+                }
+            }
+            Plan::Shared => {
+                let mut own = Target::new(setup.clone(), Film::new(w, h));
+                let n = expose(&mut [&mut own], (a, b), &mut budget)?;
+                let own = own.into_film();
+                show_target.film.add(&own);
+                Photo {
+                    gain: tone::metered_gain(own.max(), whole.ev_stops),
+                    film: own,
+                    camera: setup.cam,
+                    window_s: (a, b),
+                    pieces: n as usize,
+                }
+            }
         };
-        pictures.push((
-            dir.join(section_file_name(sec.first_bar, sec.last_bar)),
-            develop(&photo, &whole),
-        ));
-        film.add(&photo.film);
+        covered = covered.max(b);
+        pictures.push((written, develop(&photo, &whole)));
     }
     if t1 > covered {
-        made += setup.expose(prepared, (covered, t1), budget, &mut film, &|_| {})?;
+        expose(&mut [&mut show_target], (covered, t1), &mut budget)?;
     }
+    let film = show_target.into_film();
     let photo = Photo {
         gain: tone::metered_gain(film.max(), whole.ev_stops),
         film,
@@ -732,11 +1016,17 @@ pub fn write_previews(
         window_s: (t0, t1),
         pieces: made as usize,
     };
-    pictures.insert(0, (dir.join(SHOW_FILE_NAME), develop(&photo, &whole)));
+    let show_file = Written {
+        path: dir.join(SHOW_FILE_NAME),
+        choice: None,
+        view: opts.pinhole.is_none().then_some(whole.view),
+        shared: true,
+    };
+    pictures.insert(0, (show_file, develop(&photo, &whole)));
     let mut written = Vec::new();
-    for (path, img) in pictures {
-        write_png_atomic(&path, &img)?;
-        written.push(path);
+    for (file, img) in pictures {
+        write_png_atomic(&file.path, &img)?;
+        written.push(file);
     }
     Ok(written)
 }

@@ -30,6 +30,7 @@ mod play_watch;
 mod preview_output;
 mod preview_paint;
 mod preview_physics;
+mod previews_readable;
 mod program;
 mod readme_keys;
 mod refusals;

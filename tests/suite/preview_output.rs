@@ -356,10 +356,7 @@ fn previews_for_compile_one_per_section_and_one_of_the_show() {
         ..PreviewOptions::default()
     };
     let files = preview::write_previews(&prepared, &dir, &opts).unwrap();
-    let names: Vec<String> = files
-        .iter()
-        .map(|f| f.file_name().unwrap().to_string_lossy().into_owned())
-        .collect();
+    let names: Vec<String> = files.iter().map(|f| f.file_name()).collect();
     assert_eq!(
         names,
         [
@@ -369,7 +366,10 @@ fn previews_for_compile_one_per_section_and_one_of_the_show() {
         ]
     );
     for f in &files {
-        assert_eq!(image::open(f).unwrap().to_rgb8().dimensions(), (120, 90));
+        assert_eq!(
+            image::open(&f.path).unwrap().to_rgb8().dimensions(),
+            (120, 90)
+        );
     }
     // No temporary files are left behind.
     let left: Vec<_> = std::fs::read_dir(&dir)
