@@ -273,17 +273,19 @@
 
   // ---- The song and the beat click ---------------------------------------
 
-  let audio = null;
-  const songEl = $("song");
-  if (songEl) {
-    const bytes = decodeBase64(songEl.textContent.trim());
-    const url = URL.createObjectURL(new Blob([bytes], { type: songEl.dataset.mime }));
-    audio = new Audio();
-    audio.preload = "auto";
-    audio.src = url;
-    audio.preservesPitch = true;
-    $("click-label").hidden = true;
+  // The song of a `<script id="song">` element, or null without one.
+  function songOf(el) {
+    if (!el) return null;
+    const bytes = decodeBase64(el.textContent.trim());
+    const a = new Audio();
+    a.preload = "auto";
+    a.src = URL.createObjectURL(new Blob([bytes], { type: el.dataset.mime }));
+    a.preservesPitch = true;
+    return a;
   }
+  let audio = songOf($("song"));
+  $("click-label").hidden = audio !== null;
+  document.body.dataset.song = S.song || "";
 
   let actx = null;
   let scheduledBeat = -Infinity;
@@ -976,6 +978,29 @@
 
   // ---- The live show (watch mode) ---------------------------------------
 
+  // A live page told of a show with another song takes the song from the
+  // page its server now serves (the only other thing it answers), and the
+  // clock goes on where it was.
+  let songWanted = S.song;
+  function replaceSong(id) {
+    fetch("/", { cache: "no-store" })
+      .then((r) => r.text())
+      .then((html) => {
+        if (songWanted !== id) return; // a newer show came meanwhile
+        const doc = new DOMParser().parseFromString(html, "text/html");
+        const wasPlaying = state.playing;
+        setPlaying(false);
+        const t = state.t;
+        if (audio) URL.revokeObjectURL(audio.src);
+        audio = songOf(doc.getElementById("song"));
+        $("click-label").hidden = audio !== null;
+        document.body.dataset.song = id || "";
+        seek(t);
+        if (wasPlaying) setPlaying(true);
+      })
+      .catch((e) => report("cannot fetch the new song: " + e));
+  }
+
   function listen() {
     if (document.body.dataset.live !== "true" || !window.EventSource) return;
     const es = new EventSource("/events");
@@ -984,6 +1009,10 @@
       const t = currentT();
       S = prepareShow(JSON.parse(e.data));
       showVersion++;
+      if (S.song !== songWanted) {
+        songWanted = S.song;
+        replaceSong(S.song);
+      }
       buildSwatches();
       box.hidden = true;
       box.textContent = "";
@@ -1038,8 +1067,35 @@
   buildSwatches();
   setupControls();
   setView("front");
+  // Where the page's parts are, for tests and readers: the window, the
+  // document's scroll size and the boxes of the readout, the stage, the
+  // controls and each control, `[left, top, right, bottom]` px, as JSON in
+  // `data-layout` on the body.
+  function probeLayout() {
+    const box = (el) => {
+      const r = el.getBoundingClientRect();
+      return [r.left, r.top, r.right, r.bottom].map((v) => Math.round(v * 10) / 10);
+    };
+    const d = document.documentElement;
+    document.body.dataset.layout = JSON.stringify({
+      window: [window.innerWidth, window.innerHeight],
+      scroll: [d.scrollWidth, d.scrollHeight],
+      top: box($("top")),
+      stage: box(stage),
+      controls: box($("controls")),
+      items: Array.from($("row").children).map(box),
+    });
+  }
   resize();
+  probeLayout();
   window.addEventListener("resize", resize);
+  // The controls wrapping onto more lines changes the stage's height.
+  if (window.ResizeObserver) {
+    new ResizeObserver(() => {
+      resize();
+      probeLayout();
+    }).observe($("stage-wrap"));
+  }
   seek(state.t);
   draw(clampT(state.t));
   drawTimeline(clampT(state.t));
