@@ -187,6 +187,12 @@ fn close(a: [u8; 3], b: [u8; 3], tol: i32) -> bool {
 
 /// Checks every head of `show` (props with one LED) at each moment.
 fn heads_are_drawn_where_the_motion_puts_them(show_rel: &str, moments: &[f64], tag: &str) {
+    heads_over_trail(show_rel, moments, tag, "");
+}
+
+/// As above, with `extra` added to each page's query (`&trail=4`: a trail
+/// of a bar, over which every dot must still be drawn).
+fn heads_over_trail(show_rel: &str, moments: &[f64], tag: &str, extra: &str) {
     let show = repo(show_rel);
     let prepared = glowscore::commands::prepare(&show).unwrap();
     let s = prepared.show();
@@ -200,7 +206,7 @@ fn heads_are_drawn_where_the_motion_puts_them(show_rel: &str, moments: &[f64], t
     let mut checked = 0;
     for (mi, &t) in moments.iter().enumerate() {
         let query = format!(
-            "t={t}&bare&viewport={},{},{},{}",
+            "t={t}&bare&viewport={},{},{},{}{extra}",
             vp[0], vp[1], vp[2], vp[3]
         );
         let img = screenshot(&page, &query, size, &format!("{tag}-{mi}.png"));
@@ -296,6 +302,16 @@ fn salt_marsh_heads_are_where_the_motion_puts_them_in_the_tables_colours() {
         "shows/salt-marsh-reel.toml",
         &[1.7, 6.25, 13.9],
         "salt",
+    );
+}
+
+#[test]
+fn heads_are_drawn_over_a_trail_of_a_whole_bar() {
+    heads_over_trail(
+        "shows/salt-marsh-reel.toml",
+        &[1.7, 6.25, 13.9],
+        "salt-bar",
+        "&trail=4",
     );
 }
 
