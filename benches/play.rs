@@ -2,11 +2,7 @@
 //! then, measured outside criterion and printed, the watch loop's latency
 //! from a save to the new show on the event stream for each demo show.
 //!
-//! The page's own frame rate is shown on the page (and in `data-fps`,
-//! `data-draw-ms` on its body); `benches/fixtures/four-strips-144.toml` is
-//! the show to read it with (four 144-LED strips, trails on). Headless
-//! Chromium's `--dump-dom` reads the DOM right after load, before the page
-//! has played, so that figure is not taken here yet.
+//! The page's own frame rate is measured by `benches/play_page.rs`.
 
 use std::io::{BufRead, BufReader, Write};
 use std::net::TcpStream;

@@ -107,8 +107,15 @@ pub fn watch_loop(
     let show = absolute(show);
     let (prepared, built) = build(&show, song, true)?;
     let hub = watch::Hub::new(built.html, built.data_json);
-    let listener = watch::bind(port)
-        .map_err(|e| Failure::Option(format!("cannot listen on 127.0.0.1:{port}: {e}")))?;
+    let listener = watch::bind(port).map_err(|e| {
+        Failure::Option(if e.kind() == std::io::ErrorKind::AddrInUse {
+            format!(
+                "port {port} on 127.0.0.1 is in use by another program: choose another with --port, or leave --port out to let the system pick a free one"
+            )
+        } else {
+            format!("cannot listen on 127.0.0.1:{port}: {e}")
+        })
+    })?;
     let addr = listener
         .local_addr()
         .map_err(Failure::output("the address"))?;

@@ -66,6 +66,10 @@ pub struct ShowData {
     pub reach_box: [[f64; 3]; 2],
     /// Display sRGB byte of each LED byte (linear light), IEC 61966-2-1.
     pub display_lut: Vec<u8>,
+    /// The song the page embeds, as its size and CRC-32 (`"BYTES-CRC"`,
+    /// the CRC in hexadecimal), or none: a live page that is told of a
+    /// show with another song fetches the new page for it.
+    pub song: Option<String>,
 }
 
 /// One section on the timeline.
@@ -155,6 +159,7 @@ pub fn show_data(prepared: &Prepared) -> Result<ShowData, DataError> {
         props,
         reach_box: reach_box(show, prepared.motions()),
         display_lut: display_lut(),
+        song: None,
     })
 }
 

@@ -127,7 +127,7 @@ pub struct Built {
 
 /// The whole page for `prepared`.
 pub fn page_html(prepared: &Prepared, page: &Page) -> Result<Built, PlayError> {
-    let data = show_data(prepared)?;
+    let mut data = show_data(prepared)?;
     let song = match page.song {
         Some(path) => {
             let bytes = std::fs::metadata(path)
@@ -146,6 +146,7 @@ pub fn page_html(prepared: &Prepared, page: &Page) -> Result<Built, PlayError> {
                 path: path.to_path_buf(),
                 source,
             })?;
+            data.song = Some(format!("{}-{:08x}", raw.len(), crc32fast::hash(&raw)));
             Some((song_mime(path), data::base64(&raw)))
         }
         None => None,

@@ -90,6 +90,7 @@
     const show = d;
     for (const p of show.props) {
       p.nLeds = p.leds.length;
+      p.along = Float64Array.from(p.leds);
       p.runs = decodeRuns(decodeBase64(p.colours), p.nLeds);
       p.colours = null;
       p.lastRun = 0;
@@ -99,6 +100,8 @@
   }
 
   let S = prepareShow(JSON.parse($("show-data").textContent));
+  // Counts the shows received (a new one redraws the trail).
+  let showVersion = 0;
 
   // Global beat (0 = bar 1 beat 1) at t seconds; the first tempo extends backwards.
   function beatAt(t) {
@@ -132,27 +135,28 @@
     return i >= 0 && beat < spans[i].beats[1] ? spans[i] : null;
   }
 
-  // Every LED of prop p at beat `beat`, stage metres, into out[3 * led ..].
-  // Also the hand into hand[0..3].
-  function placeLeds(p, beat, out, hand) {
+  // Prop p at beat `beat`: its hand and the unit vector along it (from the
+  // grip towards the head), stage metres, into out[o .. o + 6]. An LED
+  // `along` metres from the grip sits at hand + along * direction (data.rs),
+  // so the terms are evaluated once per prop, not once per LED.
+  function placeProp(p, beat, out, o) {
     const sp = spanAt(p, beat);
-    const n = p.nLeds;
     if (!sp) {
       const a = p.anchor;
-      for (let k = 0; k < n; k++) {
-        out[3 * k] = a[0];
-        out[3 * k + 1] = a[1] - p.leds[k];
-        out[3 * k + 2] = a[2];
-      }
-      hand[0] = a[0];
-      hand[1] = a[1];
-      hand[2] = a[2];
+      out[o] = a[0];
+      out[o + 1] = a[1];
+      out[o + 2] = a[2];
+      out[o + 3] = 0;
+      out[o + 4] = -1;
+      out[o + 5] = 0;
       return;
     }
     const u = sp.phase0 + sp.per_beat * (beat - sp.beats[0]);
     let h0 = 0;
     let h1 = 0;
-    for (const r of sp.hand) {
+    const terms = sp.hand;
+    for (let i = 0; i < terms.length; i++) {
+      const r = terms[i];
       const ang = r[2] + TAU * r[1] * u;
       h0 += r[0] * Math.cos(ang);
       h1 += r[0] * Math.sin(ang);
@@ -163,16 +167,12 @@
     const A = sp.anchor;
     const U = sp.up;
     const R = sp.right;
-    for (let k = 0; k < n; k++) {
-      const q0 = h0 + p.leds[k] * c;
-      const q1 = h1 + p.leds[k] * s;
-      out[3 * k] = A[0] + U[0] * q0 + R[0] * q1;
-      out[3 * k + 1] = A[1] + U[1] * q0 + R[1] * q1;
-      out[3 * k + 2] = A[2] + U[2] * q0 + R[2] * q1;
-    }
-    hand[0] = A[0] + U[0] * h0 + R[0] * h1;
-    hand[1] = A[1] + U[1] * h0 + R[1] * h1;
-    hand[2] = A[2] + U[2] * h0 + R[2] * h1;
+    out[o] = A[0] + U[0] * h0 + R[0] * h1;
+    out[o + 1] = A[1] + U[1] * h0 + R[1] * h1;
+    out[o + 2] = A[2] + U[2] * h0 + R[2] * h1;
+    out[o + 3] = U[0] * c + R[0] * s;
+    out[o + 4] = U[1] * c + R[1] * s;
+    out[o + 5] = U[2] * c + R[2] * s;
   }
 
   // Offset into p.runs.bytes of frame k's colours.
@@ -273,17 +273,19 @@
 
   // ---- The song and the beat click ---------------------------------------
 
-  let audio = null;
-  const songEl = $("song");
-  if (songEl) {
-    const bytes = decodeBase64(songEl.textContent.trim());
-    const url = URL.createObjectURL(new Blob([bytes], { type: songEl.dataset.mime }));
-    audio = new Audio();
-    audio.preload = "auto";
-    audio.src = url;
-    audio.preservesPitch = true;
-    $("click-label").hidden = true;
+  // The song of a `<script id="song">` element, or null without one.
+  function songOf(el) {
+    if (!el) return null;
+    const bytes = decodeBase64(el.textContent.trim());
+    const a = new Audio();
+    a.preload = "auto";
+    a.src = URL.createObjectURL(new Blob([bytes], { type: el.dataset.mime }));
+    a.preservesPitch = true;
+    return a;
   }
+  let audio = songOf($("song"));
+  $("click-label").hidden = audio !== null;
+  document.body.dataset.song = S.song || "";
 
   let actx = null;
   let scheduledBeat = -Infinity;
@@ -393,181 +395,350 @@
     const key = (r << 16) | (g << 8) | b;
     let s = rgbCache.get(key);
     if (!s) {
+      // The trail's colours are scaled by its fading: keep the cache small.
+      if (rgbCache.size >= 8192) rgbCache.clear();
       s = "rgb(" + r + "," + g + "," + b + ")";
       rgbCache.set(key, s);
     }
     return s;
   }
 
-  // Scratch space for positions: grown when needed.
-  let posBuf = new Float64Array(0);
-  const handBuf = new Float64Array(3);
-  const TRAIL_SAMPLES = 48;
-  const TRAIL_BANDS = 8;
+  // ---- The screen mapping ------------------------------------------------
+
+  // The current view's map from stage metres to window pixels, linear:
+  // px = P[0] x + P[1] y + P[2] z + P[3], py = P[4] x + P[5] y + P[6] z + P[7].
+  const P = new Float64Array(8);
+  function setProjection(view, vp) {
+    const sx = W / (vp[2] - vp[0]);
+    const sy = H / (vp[3] - vp[1]);
+    P.fill(0);
+    // The screen's x is the stage's x (z in the side view); its y, up, is
+    // the stage's y (-z in the top view), as screenOf.
+    if (view === "side") P[2] = sx;
+    else P[0] = sx;
+    P[3] = -vp[0] * sx;
+    if (view === "top") P[6] = sy;
+    else P[5] = -sy;
+    P[7] = vp[3] * sy;
+  }
+
+  // Every prop at beat `beat` on the screen: the hand's pixel and the pixels
+  // per metre along the prop, into out[o + 4 i ..] for prop i.
+  const stageBuf = new Float64Array(6);
+  function screenProps(beat, out, o) {
+    const props = S.props;
+    for (let i = 0; i < props.length; i++) {
+      placeProp(props[i], beat, stageBuf, 0);
+      const q = o + 4 * i;
+      const x = stageBuf[0];
+      const y = stageBuf[1];
+      const z = stageBuf[2];
+      const dx = stageBuf[3];
+      const dy = stageBuf[4];
+      const dz = stageBuf[5];
+      out[q] = P[0] * x + P[1] * y + P[2] * z + P[3];
+      out[q + 1] = P[4] * x + P[5] * y + P[6] * z + P[7];
+      out[q + 2] = P[0] * dx + P[1] * dy + P[2] * dz;
+      out[q + 3] = P[4] * dx + P[5] * dy + P[6] * dz;
+    }
+  }
+
+  // ---- The trail ------------------------------------------------------------
+
+  // The trail is kept in a canvas of its own, opaque black: each frame fades
+  // it by one translucent black fill (the fade reaches black exactly; a
+  // transparent canvas faded with destination-out keeps a faint floor), then
+  // draws every LED's path since the last frame in the colour of its frame.
+  // The stage adds it onto its background ("lighter": black adds nothing).
+  // After a trail's length its light is down to TRAIL_LEFT of what it was.
+  const trailCanvas = document.createElement("canvas");
+  const tctx2 = trailCanvas.getContext("2d", { alpha: false });
+  const trail = { t: NaN, on: false, view: "", valid: false };
+  // What the trail was drawn for: the viewport, the window, the trail's
+  // length and the show; any change draws it again.
+  const trailKey = new Float64Array(8);
+  const keyNow = new Float64Array(8);
+  const TRAIL_ALPHA = 0.7;
+  const TRAIL_WIDTH = 2.5; // px
+  const TRAIL_LEFT = 1 / 40;
+  const TRAIL_POINTS_PER_S = 240; // points along each LED's path, per second of show time
+  const TRAIL_CHUNK_S = 1 / 60; // a rebuilt trail is drawn as if played at this frame time
+  const TRAIL_MAX_CHUNKS = 240;
+  let pathBuf = new Float64Array(0);
+
+  function clearTrail() {
+    tctx2.setTransform(1, 0, 0, 1, 0, 0);
+    tctx2.globalAlpha = 1;
+    tctx2.fillStyle = "#000";
+    tctx2.fillRect(0, 0, trailCanvas.width, trailCanvas.height);
+    tctx2.setTransform(stage.width / W, 0, 0, stage.height / H, 0, 0);
+  }
+
+  // The last LED of the stretch from q (before m) whose neighbours are at
+  // most gapM metres apart along the prop.
+  function denseEnd(along, q, m, gapM) {
+    let e = q;
+    while (e + 1 < m && Math.abs(along[e + 1] - along[e]) <= gapM) e++;
+    return e;
+  }
+
+  // The end of the run of LEDs from l sharing frame colours by[off + 3 l ..].
+  function colourRunEnd(by, off, l, n) {
+    const r = by[off + 3 * l];
+    const g = by[off + 3 * l + 1];
+    const b = by[off + 3 * l + 2];
+    let m = l + 1;
+    while (m < n && by[off + 3 * m] === r && by[off + 3 * m + 1] === g && by[off + 3 * m + 2] === b) m++;
+    return m;
+  }
+
+  // Draws every LED's path from ta to tb (straight pieces, TRAIL_POINTS_PER_S)
+  // at `alpha`, in the colour of the frame in the middle. Each channel keeps
+  // the brighter of the trail and the new light ("lighten", the colour
+  // scaled by alpha): a place passed again is not made brighter than one
+  // pass. LEDs closer together than the trail's width sweep one area: a
+  // run of them is that area (the first LED's path, the last one's back),
+  // filled; every other LED, and the area's first and last, draws its path
+  // at the trail's width.
+  function strokeTrail(ta, tb, alpha) {
+    const steps = Math.max(1, Math.min(64, Math.ceil((tb - ta) * TRAIL_POINTS_PER_S)));
+    const props = S.props;
+    const np = props.length;
+    const need = 4 * np * (steps + 1);
+    if (pathBuf.length < need) pathBuf = new Float64Array(need);
+    for (let j = 0; j <= steps; j++) screenProps(beatAt(ta + ((tb - ta) * j) / steps), pathBuf, 4 * np * j);
+    const k = frameAt(0.5 * (ta + tb));
+    const lut = S.display_lut;
+    const c = tctx2;
+    c.globalAlpha = 1;
+    c.globalCompositeOperation = "lighten";
+    c.lineWidth = TRAIL_WIDTH;
+    c.lineCap = "butt";
+    c.lineJoin = "round";
+    const last = 4 * np * steps;
+    for (let i = 0; i < np; i++) {
+      const p = props[i];
+      const off = colourOffset(p, k);
+      const by = p.runs.bytes;
+      const along = p.along;
+      const len = Math.hypot(pathBuf[last + 4 * i + 2], pathBuf[last + 4 * i + 3]);
+      const gapM = len > 0 ? TRAIL_WIDTH / len : Infinity;
+      for (let l = 0; l < p.nLeds; ) {
+        const m = colourRunEnd(by, off, l, p.nLeds);
+        const o = off + 3 * l;
+        if (by[o] + by[o + 1] + by[o + 2] > 0) {
+          c.strokeStyle = rgb(Math.round(alpha * lut[by[o]]), Math.round(alpha * lut[by[o + 1]]), Math.round(alpha * lut[by[o + 2]]));
+          c.fillStyle = c.strokeStyle;
+          let areas = false;
+          c.beginPath();
+          for (let q = l; q < m; ) {
+            const e = denseEnd(along, q, m, gapM);
+            if (e > q) {
+              areas = true;
+              for (let j = 0; j <= steps; j++) {
+                const v = 4 * (np * j + i);
+                const x = pathBuf[v] + along[q] * pathBuf[v + 2];
+                const y = pathBuf[v + 1] + along[q] * pathBuf[v + 3];
+                if (j === 0) c.moveTo(x, y);
+                else c.lineTo(x, y);
+              }
+              for (let j = steps; j >= 0; j--) {
+                const v = 4 * (np * j + i);
+                c.lineTo(pathBuf[v] + along[e] * pathBuf[v + 2], pathBuf[v + 1] + along[e] * pathBuf[v + 3]);
+              }
+              c.closePath();
+            }
+            q = e + 1;
+          }
+          if (areas) c.fill();
+          // The single LEDs' paths, and the paths of an area's first and
+          // last LEDs (its sides: an outline across its ends would overlap
+          // the next frame's area).
+          c.beginPath();
+          for (let q = l; q < m; ) {
+            const e = denseEnd(along, q, m, gapM);
+            for (let d = q; d <= e; d += Math.max(1, e - q)) {
+              for (let j = 0; j <= steps; j++) {
+                const v = 4 * (np * j + i);
+                const x = pathBuf[v] + along[d] * pathBuf[v + 2];
+                const y = pathBuf[v + 1] + along[d] * pathBuf[v + 3];
+                if (j === 0) c.moveTo(x, y);
+                else c.lineTo(x, y);
+              }
+            }
+            q = e + 1;
+          }
+          c.stroke();
+        }
+        l = m;
+      }
+    }
+    c.globalCompositeOperation = "source-over";
+  }
+
+  // Brings the trail to time t: the part since the last frame when the
+  // trail is still the one drawn then, else the whole trail again (a jump,
+  // a new view, window, show or trail length).
+  function updateTrail(t, trailS, view, vp) {
+    if (!(trailS > 0)) {
+      trail.on = false;
+      trail.valid = false;
+      return;
+    }
+    if (trailCanvas.width !== stage.width || trailCanvas.height !== stage.height) {
+      trailCanvas.width = stage.width;
+      trailCanvas.height = stage.height;
+      trail.valid = false;
+    }
+    trail.on = true;
+    keyNow[0] = vp[0];
+    keyNow[1] = vp[1];
+    keyNow[2] = vp[2];
+    keyNow[3] = vp[3];
+    keyNow[4] = W;
+    keyNow[5] = H;
+    keyNow[6] = state.trailBeats;
+    keyNow[7] = showVersion;
+    let same = trail.valid && trail.view === view;
+    for (let i = 0; same && i < 8; i++) same = keyNow[i] === trailKey[i];
+    const tau = trailS / Math.log(1 / TRAIL_LEFT);
+    if (!same || !(t >= trail.t) || t - trail.t > trailS) {
+      clearTrail();
+      const start = Math.max(0, t - trailS);
+      const n = Math.min(TRAIL_MAX_CHUNKS, Math.ceil((t - start) / TRAIL_CHUNK_S - 1e-9));
+      for (let c = 0; c < n; c++) {
+        const ta = start + ((t - start) * c) / n;
+        const tb = start + ((t - start) * (c + 1)) / n;
+        strokeTrail(ta, tb, TRAIL_ALPHA * Math.exp(-(t - tb) / tau));
+      }
+    } else if (t > trail.t) {
+      tctx2.globalAlpha = 1 - Math.exp(-(t - trail.t) / tau);
+      tctx2.fillStyle = "#000";
+      tctx2.fillRect(0, 0, W, H);
+      strokeTrail(trail.t, t, TRAIL_ALPHA);
+    }
+    trail.t = t;
+    trail.view = view;
+    trail.valid = true;
+    trailKey.set(keyNow);
+  }
+
+  // ---- The stage ------------------------------------------------------------
+
   const DOT_RADIUS = 3; // px: a dot 6 px across
-  // A strip's trail is drawn from at most this many of its LEDs, evenly
-  // spread (neighbouring LEDs' trails overlap into one band anyway).
-  const TRAIL_LEDS = 16;
+  const GLOW_RADIUS = 9; // px
+  const GLOW_ALPHA = 0.22;
+  let now = new Float64Array(4 * 8);
+
+  // Every LED's dot (or glow) of `radius` px in frame k's colours, drawn
+  // as the union of the dots: a stretch of LEDs of one colour closer
+  // together than half the radius is one round-capped line through them
+  // (its edge within 0.04 radius of the dots' scalloped one), the others
+  // one circle each, one path per run of one colour.
+  function fillDots(k, radius) {
+    const lut = S.display_lut;
+    const props = S.props;
+    ctx.lineCap = "round";
+    ctx.lineWidth = 2 * radius;
+    for (let i = 0; i < props.length; i++) {
+      const p = props[i];
+      const off = colourOffset(p, k);
+      const by = p.runs.bytes;
+      const along = p.along;
+      const hx = now[4 * i];
+      const hy = now[4 * i + 1];
+      const ex = now[4 * i + 2];
+      const ey = now[4 * i + 3];
+      const len = Math.hypot(ex, ey);
+      const gapM = len > 0 ? (0.5 * radius) / len : Infinity;
+      for (let l = 0; l < p.nLeds; ) {
+        const m = colourRunEnd(by, off, l, p.nLeds);
+        const o = off + 3 * l;
+        const colour = rgb(lut[by[o]], lut[by[o + 1]], lut[by[o + 2]]);
+        let lines = false;
+        let dots = false;
+        ctx.beginPath();
+        for (let q = l; q < m; ) {
+          const e = denseEnd(along, q, m, gapM);
+          if (e > q && Math.abs(along[e] - along[q]) * len > 1e-3) {
+            lines = true;
+            ctx.moveTo(hx + along[q] * ex, hy + along[q] * ey);
+            ctx.lineTo(hx + along[e] * ex, hy + along[e] * ey);
+          } else dots = true;
+          q = e + 1;
+        }
+        if (lines) {
+          ctx.strokeStyle = colour;
+          ctx.stroke();
+        }
+        if (dots) {
+          ctx.beginPath();
+          for (let q = l; q < m; ) {
+            const e = denseEnd(along, q, m, gapM);
+            if (!(e > q && Math.abs(along[e] - along[q]) * len > 1e-3)) {
+              for (let d = q; d <= e; d++) {
+                const x = hx + along[d] * ex;
+                const y = hy + along[d] * ey;
+                ctx.moveTo(x + radius, y);
+                ctx.arc(x, y, radius, 0, TAU);
+              }
+            }
+            q = e + 1;
+          }
+          ctx.fillStyle = colour;
+          ctx.fill();
+        }
+        l = m;
+      }
+    }
+  }
 
   function draw(t) {
     const view = state.view;
     const vp = viewportFor(view, W, H);
-    const sx = W / (vp[2] - vp[0]);
-    const sy = H / (vp[3] - vp[1]);
-    const lut = S.display_lut;
+    setProjection(view, vp);
+    const k = frameAt(t);
+    const beatNow = beatAt(t);
+    const trailS = Math.max(0, timeAtBeat(beatNow) - timeAtBeat(beatNow - state.trailBeats));
+    updateTrail(t, trailS < 1 / S.frameRate ? 0 : trailS, view, vp);
+    ctx.globalAlpha = 1;
     ctx.fillStyle = "#0b0d12";
     ctx.fillRect(0, 0, W, H);
+    if (trail.on) {
+      ctx.globalCompositeOperation = "lighter";
+      ctx.drawImage(trailCanvas, 0, 0, W, H);
+      ctx.globalCompositeOperation = "source-over";
+    }
     // A faint floor line at y = 0 in the front and side views.
     if (view !== "top" && vp[1] < 0 && vp[3] > 0) {
       ctx.strokeStyle = "#161a22";
       ctx.lineWidth = 1;
       ctx.beginPath();
-      const fy = vp[3] * sy;
+      const fy = P[7];
       ctx.moveTo(0, fy);
       ctx.lineTo(W, fy);
       ctx.stroke();
     }
-    const k = frameAt(t);
-    const beatNow = beatAt(t);
-    const trailS = Math.max(0, timeAtBeat(beatNow) - timeAtBeat(beatNow - state.trailBeats));
-    const frameS = 1 / S.frameRate;
-    const samples = trailS < frameS ? 0 : Math.min(TRAIL_SAMPLES, Math.ceil(trailS / frameS));
-    const dt = samples > 0 ? trailS / samples : 0;
-    let total = 0;
-    for (const p of S.props) total += p.nLeds;
-    const need = 3 * total * (samples + 1);
-    if (posBuf.length < need) posBuf = new Float64Array(need);
-    const hands = [];
-    // Positions: sample j is at t - j dt; prop p's LEDs from base[p].
-    for (let j = 0; j <= samples; j++) {
-      const tj = t - j * dt;
-      const bj = j === 0 ? beatNow : beatAt(tj);
-      let base = 3 * total * j;
-      for (const p of S.props) {
-        const view3 = posBuf.subarray(base, base + 3 * p.nLeds);
-        placeLeds(p, bj, view3, handBuf);
-        if (j === 0) hands.push([handBuf[0], handBuf[1], handBuf[2]]);
-        base += 3 * p.nLeds;
-      }
-    }
-    const toPx = (x, y, z) => {
-      const s = screenOf(view, x, y, z);
-      return [(s[0] - vp[0]) * sx, (vp[3] - s[1]) * sy];
-    };
-    // The trail: bands of samples, older ones fainter, in their frames' colours.
-    if (samples > 0) {
-      ctx.lineCap = "butt";
-      ctx.lineJoin = "bevel";
-      ctx.lineWidth = 2.5;
-      const bands = Math.min(TRAIL_BANDS, samples);
-      for (let band = bands - 1; band >= 0; band--) {
-        const j0 = Math.floor((band * samples) / bands);
-        const j1 = Math.floor(((band + 1) * samples) / bands);
-        const mid = t - 0.5 * (j0 + j1) * dt;
-        const km = frameAt(mid);
-        const groups = new Map();
-        let base = 0;
-        for (const p of S.props) {
-          const off = colourOffset(p, km);
-          const bytes = p.runs.bytes;
-          const stride = Math.max(1, Math.ceil(p.nLeds / TRAIL_LEDS));
-          for (let l = 0; l < p.nLeds; l += stride) {
-            const r = lut[bytes[off + 3 * l]];
-            const g = lut[bytes[off + 3 * l + 1]];
-            const b = lut[bytes[off + 3 * l + 2]];
-            if (r + g + b === 0) continue;
-            const key = rgb(r, g, b);
-            let pts = groups.get(key);
-            if (!pts) groups.set(key, (pts = []));
-            pts.push(base + 3 * l);
-          }
-          base += 3 * p.nLeds;
-        }
-        ctx.globalAlpha = 0.75 * (1 - (band + 0.5) / bands);
-        for (const [key, pts] of groups) {
-          ctx.strokeStyle = key;
-          ctx.beginPath();
-          for (const o of pts) {
-            for (let j = j0; j <= j1; j++) {
-              const q = 3 * total * j + o;
-              const s = toPx(posBuf[q], posBuf[q + 1], posBuf[q + 2]);
-              if (j === j0) ctx.moveTo(s[0], s[1]);
-              else ctx.lineTo(s[0], s[1]);
-            }
-          }
-          ctx.stroke();
-        }
-      }
-      ctx.globalAlpha = 1;
-    }
+    const np = S.props.length;
+    if (now.length < 4 * np) now = new Float64Array(4 * np);
+    screenProps(beatNow, now, 0);
     // Tethers and rods, faint, from the hand to the far ends.
     ctx.strokeStyle = "#2b313c";
     ctx.lineWidth = 1;
     ctx.beginPath();
-    S.props.forEach((p, i) => {
-      const h = hands[i];
-      const a = toPx(h[0], h[1], h[2]);
-      const sp = spanAt(p, beatNow);
-      for (const e of p.ends) {
-        let x;
-        let y;
-        let z;
-        if (!sp) {
-          x = p.anchor[0];
-          y = p.anchor[1] - e;
-          z = p.anchor[2];
-        } else {
-          const u = sp.phase0 + sp.per_beat * (beatNow - sp.beats[0]);
-          const ta = sp.tether[1] + TAU * sp.tether[0] * u;
-          const q0 = e * Math.cos(ta);
-          const q1 = e * Math.sin(ta);
-          x = h[0] + sp.up[0] * q0 + sp.right[0] * q1;
-          y = h[1] + sp.up[1] * q0 + sp.right[1] * q1;
-          z = h[2] + sp.up[2] * q0 + sp.right[2] * q1;
-        }
-        const b = toPx(x, y, z);
-        ctx.moveTo(a[0], a[1]);
-        ctx.lineTo(b[0], b[1]);
+    for (let i = 0; i < np; i++) {
+      const hx = now[4 * i];
+      const hy = now[4 * i + 1];
+      for (const e of S.props[i].ends) {
+        ctx.moveTo(hx, hy);
+        ctx.lineTo(hx + e * now[4 * i + 2], hy + e * now[4 * i + 3]);
       }
-    });
+    }
     ctx.stroke();
-    // The glow of every LED, then every LED's dot in its frame colour on top.
-    const dots = [];
-    let base = 0;
-    for (const p of S.props) {
-      const off = colourOffset(p, k);
-      const bytes = p.runs.bytes;
-      for (let l = 0; l < p.nLeds; l++) {
-        const q = base + 3 * l;
-        const s = toPx(posBuf[q], posBuf[q + 1], posBuf[q + 2]);
-        const key = rgb(lut[bytes[off + 3 * l]], lut[bytes[off + 3 * l + 1]], lut[bytes[off + 3 * l + 2]]);
-        dots.push(s[0], s[1], key);
-      }
-      base += 3 * p.nLeds;
-    }
-    // One path per colour (a strip's LEDs mostly share one): its glows
-    // as one faint fill, then its dots.
-    const byColour = new Map();
-    for (let i = 0; i < dots.length; i += 3) {
-      let list = byColour.get(dots[i + 2]);
-      if (!list) byColour.set(dots[i + 2], (list = []));
-      list.push(dots[i], dots[i + 1]);
-    }
-    const fillDots = (radius) => {
-      for (const [key, list] of byColour) {
-        ctx.fillStyle = key;
-        ctx.beginPath();
-        for (let i = 0; i < list.length; i += 2) {
-          ctx.moveTo(list[i] + radius, list[i + 1]);
-          ctx.arc(list[i], list[i + 1], radius, 0, TAU);
-        }
-        ctx.fill();
-      }
-    };
-    ctx.globalAlpha = 0.22;
-    fillDots(3 * DOT_RADIUS);
+    ctx.globalAlpha = GLOW_ALPHA;
+    fillDots(k, GLOW_RADIUS);
     ctx.globalAlpha = 1;
-    fillDots(DOT_RADIUS);
+    fillDots(k, DOT_RADIUS);
     updateReadout(t, k, beatNow);
   }
 
@@ -807,6 +978,29 @@
 
   // ---- The live show (watch mode) ---------------------------------------
 
+  // A live page told of a show with another song takes the song from the
+  // page its server now serves (the only other thing it answers), and the
+  // clock goes on where it was.
+  let songWanted = S.song;
+  function replaceSong(id) {
+    fetch("/", { cache: "no-store" })
+      .then((r) => r.text())
+      .then((html) => {
+        if (songWanted !== id) return; // a newer show came meanwhile
+        const doc = new DOMParser().parseFromString(html, "text/html");
+        const wasPlaying = state.playing;
+        setPlaying(false);
+        const t = state.t;
+        if (audio) URL.revokeObjectURL(audio.src);
+        audio = songOf(doc.getElementById("song"));
+        $("click-label").hidden = audio !== null;
+        document.body.dataset.song = id || "";
+        seek(t);
+        if (wasPlaying) setPlaying(true);
+      })
+      .catch((e) => report("cannot fetch the new song: " + e));
+  }
+
   function listen() {
     if (document.body.dataset.live !== "true" || !window.EventSource) return;
     const es = new EventSource("/events");
@@ -814,6 +1008,11 @@
     es.addEventListener("show", (e) => {
       const t = currentT();
       S = prepareShow(JSON.parse(e.data));
+      showVersion++;
+      if (S.song !== songWanted) {
+        songWanted = S.song;
+        replaceSong(S.song);
+      }
       buildSwatches();
       box.hidden = true;
       box.textContent = "";
@@ -868,8 +1067,35 @@
   buildSwatches();
   setupControls();
   setView("front");
+  // Where the page's parts are, for tests and readers: the window, the
+  // document's scroll size and the boxes of the readout, the stage, the
+  // controls and each control, `[left, top, right, bottom]` px, as JSON in
+  // `data-layout` on the body.
+  function probeLayout() {
+    const box = (el) => {
+      const r = el.getBoundingClientRect();
+      return [r.left, r.top, r.right, r.bottom].map((v) => Math.round(v * 10) / 10);
+    };
+    const d = document.documentElement;
+    document.body.dataset.layout = JSON.stringify({
+      window: [window.innerWidth, window.innerHeight],
+      scroll: [d.scrollWidth, d.scrollHeight],
+      top: box($("top")),
+      stage: box(stage),
+      controls: box($("controls")),
+      items: Array.from($("row").children).map(box),
+    });
+  }
   resize();
+  probeLayout();
   window.addEventListener("resize", resize);
+  // The controls wrapping onto more lines changes the stage's height.
+  if (window.ResizeObserver) {
+    new ResizeObserver(() => {
+      resize();
+      probeLayout();
+    }).observe($("stage-wrap"));
+  }
   seek(state.t);
   draw(clampT(state.t));
   drawTimeline(clampT(state.t));

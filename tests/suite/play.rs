@@ -100,8 +100,13 @@ pub fn screenshot(page: &Path, query: &str, size: (u32, u32), name: &str) -> ima
 
 /// The page's DOM after load at `query`.
 pub fn dom(page: &Path, query: &str) -> String {
+    dom_at(page, query, (800, 600))
+}
+
+/// The page's DOM after load at `query` in a window of `size`.
+pub fn dom_at(page: &Path, query: &str, size: (u32, u32)) -> String {
     let url = format!("file://{}?{query}", page.display());
-    run_chromium(&url, (800, 600), &["--dump-dom".into()])
+    run_chromium(&url, size, &["--dump-dom".into()])
 }
 
 /// The value of attribute `name` on the `<body>` of a dumped DOM.
@@ -182,6 +187,12 @@ fn close(a: [u8; 3], b: [u8; 3], tol: i32) -> bool {
 
 /// Checks every head of `show` (props with one LED) at each moment.
 fn heads_are_drawn_where_the_motion_puts_them(show_rel: &str, moments: &[f64], tag: &str) {
+    heads_over_trail(show_rel, moments, tag, "");
+}
+
+/// As above, with `extra` added to each page's query (`&trail=4`: a trail
+/// of a bar, over which every dot must still be drawn).
+fn heads_over_trail(show_rel: &str, moments: &[f64], tag: &str, extra: &str) {
     let show = repo(show_rel);
     let prepared = glowscore::commands::prepare(&show).unwrap();
     let s = prepared.show();
@@ -195,7 +206,7 @@ fn heads_are_drawn_where_the_motion_puts_them(show_rel: &str, moments: &[f64], t
     let mut checked = 0;
     for (mi, &t) in moments.iter().enumerate() {
         let query = format!(
-            "t={t}&bare&viewport={},{},{},{}",
+            "t={t}&bare&viewport={},{},{},{}{extra}",
             vp[0], vp[1], vp[2], vp[3]
         );
         let img = screenshot(&page, &query, size, &format!("{tag}-{mi}.png"));
@@ -291,6 +302,16 @@ fn salt_marsh_heads_are_where_the_motion_puts_them_in_the_tables_colours() {
         "shows/salt-marsh-reel.toml",
         &[1.7, 6.25, 13.9],
         "salt",
+    );
+}
+
+#[test]
+fn heads_are_drawn_over_a_trail_of_a_whole_bar() {
+    heads_over_trail(
+        "shows/salt-marsh-reel.toml",
+        &[1.7, 6.25, 13.9],
+        "salt-bar",
+        "&trail=4",
     );
 }
 
@@ -419,4 +440,84 @@ fn a_show_with_music_embeds_its_song() {
     let song = glowscore::commands::play::song_of(prepared.show(), None).expect("a song");
     assert!(song.ends_with("tide-lamp-groove.wav"), "{}", song.display());
     assert!(song.exists());
+}
+
+/// A box `[left, top, right, bottom]` from the page's layout probe.
+fn boxes(v: &serde_json::Value) -> [f64; 4] {
+    let a = v.as_array().expect("a box");
+    [0, 1, 2, 3].map(|i| a[i].as_f64().unwrap())
+}
+
+#[test]
+fn the_controls_wrap_without_overlapping_the_stage_from_800_px_wide() {
+    let page = write_page(
+        &repo("benches/fixtures/four-strips-144.toml"),
+        "layout.html",
+    );
+    for (w, h) in [(800u32, 600u32), (1280, 720)] {
+        let d = dom_at(&page, "t=5.3", (w, h));
+        assert_eq!(body_attr(&d, "data-error"), None, "{w} px: {d}");
+        let json = body_attr(&d, "data-layout")
+            .unwrap_or_else(|| panic!("{w} px: no layout probe"))
+            .replace("&quot;", "\"");
+        let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+        // The window the page had (a dumping browser's is shorter than asked).
+        let win = v["window"].as_array().unwrap();
+        let (ww, wh) = (win[0].as_f64().unwrap(), win[1].as_f64().unwrap());
+        assert_eq!(ww, f64::from(w), "{json}");
+        let scroll = v["scroll"].as_array().unwrap();
+        assert!(
+            scroll[0].as_f64().unwrap() <= ww && scroll[1].as_f64().unwrap() <= wh,
+            "{w} px: the page scrolls: {json}"
+        );
+        let top = boxes(&v["top"]);
+        let stage = boxes(&v["stage"]);
+        let controls = boxes(&v["controls"]);
+        assert!(
+            top[3] <= stage[1] + 0.5,
+            "{w} px: the readout overlaps the stage: {json}"
+        );
+        assert!(
+            stage[3] <= controls[1] + 0.5,
+            "{w} px: the controls overlap the stage: {json}"
+        );
+        assert!(
+            controls[3] <= wh + 0.5,
+            "{w} px: the controls leave the window: {json}"
+        );
+        assert!(
+            stage[3] - stage[1] >= 0.5 * wh,
+            "{w} px: the stage is short: {json}"
+        );
+        let items: Vec<[f64; 4]> = v["items"].as_array().unwrap().iter().map(boxes).collect();
+        for (i, a) in items.iter().enumerate() {
+            // Hidden controls (the click with a song) have an empty box.
+            if a[2] - a[0] <= 0.0 {
+                continue;
+            }
+            assert!(
+                a[0] >= controls[0] - 0.5
+                    && a[2] <= controls[2].min(ww) + 0.5
+                    && a[1] >= controls[1] - 0.5
+                    && a[3] <= controls[3] + 0.5,
+                "{w} px: control {i} {a:?} is outside the controls {controls:?}"
+            );
+            for (j, b) in items.iter().enumerate().skip(i + 1) {
+                let overlap = a[0] < b[2] - 0.5
+                    && b[0] < a[2] - 0.5
+                    && a[1] < b[3] - 0.5
+                    && b[1] < a[3] - 0.5;
+                assert!(!overlap, "{w} px: controls {i} {a:?} and {j} {b:?} overlap");
+            }
+        }
+        // The screenshot at this width: the stage is drawn where the probe
+        // says (lit pixels inside it), the controls' row below it.
+        let img = screenshot(&page, "t=5.3", (w, h), &format!("layout-{w}.png"));
+        assert_eq!(img.dimensions(), (w, h));
+        let lit = (stage[1] as u32..stage[3] as u32)
+            .flat_map(|y| (0..w).map(move |x| (x, y)))
+            .filter(|&(x, y)| img.get_pixel(x, y).0.iter().any(|&c| c > 120))
+            .count();
+        assert!(lit > 1000, "{w} px: the stage shows {lit} lit pixels");
+    }
 }

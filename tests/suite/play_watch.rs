@@ -26,10 +26,14 @@ impl Drop for Server {
 }
 
 fn start(show: &Path) -> Server {
+    start_on(show, 0)
+}
+
+fn start_on(show: &Path, port: u16) -> Server {
     let mut child = Command::new(env!("CARGO_BIN_EXE_glowscore"))
         .args(["play"])
         .arg(show)
-        .args(["--watch", "--port", "0"])
+        .args(["--watch", "--port", &port.to_string()])
         .stdout(Stdio::piped())
         .stderr(Stdio::null())
         .spawn()
@@ -133,6 +137,22 @@ fn show_copy(name: &str) -> PathBuf {
     let show = dir.join("show.toml");
     std::fs::copy(repo("shows/moth-garden.toml"), &show).unwrap();
     show
+}
+
+/// A copy of the demo show `demo` with every file of `shows/` beside it
+/// (its pictures, its song).
+fn demo_copy(name: &str, demo: &str) -> PathBuf {
+    let dir = tmp(name);
+    std::fs::create_dir_all(&dir).unwrap();
+    for f in std::fs::read_dir(repo("shows")).unwrap().flatten() {
+        std::fs::copy(f.path(), dir.join(f.file_name())).unwrap();
+    }
+    dir.join(demo)
+}
+
+fn field(data: &str, key: &str) -> serde_json::Value {
+    let v: serde_json::Value = serde_json::from_str(data).expect("a whole show's JSON");
+    v[key].clone()
 }
 
 fn retitled(title: &str) -> String {
@@ -255,4 +275,134 @@ fn the_server_answers_only_its_page_and_events() {
     let mut text = String::new();
     s.read_to_string(&mut text).unwrap();
     assert!(text.starts_with("HTTP/1.1 400"), "{text}");
+}
+
+/// A port nothing listens on now (the system's pick, released).
+fn free_port() -> u16 {
+    let l = std::net::TcpListener::bind("127.0.0.1:0").unwrap();
+    l.local_addr().unwrap().port()
+}
+
+#[test]
+fn the_port_given_is_the_one_served() {
+    let show = show_copy("watch-port");
+    let port = free_port();
+    let server = start_on(&show, port);
+    assert_eq!(server.addr, format!("127.0.0.1:{port}"));
+    let (status, page) = get(&server.addr, "/", &server.addr);
+    assert!(status.contains("200"), "{status}");
+    assert!(page.contains("id=\"show-data\""));
+}
+
+#[test]
+fn a_port_in_use_is_refused_with_a_clear_message() {
+    let show = show_copy("watch-port-in-use");
+    // Held by this test for as long as the command runs.
+    let holder = std::net::TcpListener::bind("127.0.0.1:0").unwrap();
+    let port = holder.local_addr().unwrap().port();
+    let mut child = Command::new(env!("CARGO_BIN_EXE_glowscore"))
+        .args(["play"])
+        .arg(&show)
+        .args(["--watch", "--port", &port.to_string()])
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let deadline = Instant::now() + Duration::from_secs(60);
+    let status = loop {
+        if let Some(st) = child.try_wait().unwrap() {
+            break st;
+        }
+        if Instant::now() > deadline {
+            let _ = child.kill();
+            let _ = child.wait();
+            panic!("the command kept running on a port in use");
+        }
+        std::thread::sleep(Duration::from_millis(50));
+    };
+    let mut err = String::new();
+    child
+        .stderr
+        .take()
+        .unwrap()
+        .read_to_string(&mut err)
+        .unwrap();
+    assert_eq!(status.code(), Some(1), "{err}");
+    assert!(
+        err.starts_with(&format!("error: port {port} on 127.0.0.1 is in use"))
+            && err.contains("--port"),
+        "{err}"
+    );
+    drop(holder);
+}
+
+#[test]
+fn saving_the_shows_picture_pushes_a_new_show() {
+    let show = demo_copy("watch-picture", "eelgrass-lanterns.toml");
+    let picture = show.with_file_name("moon-and-tide.png");
+    let server = start(&show);
+    let mut ev = Events::open(&server.addr);
+    let first = ev.next();
+    assert_eq!(first.name, "show");
+    // The picture saved again with its colours inverted.
+    let mut img = image::open(&picture).unwrap().to_rgba8();
+    for p in img.pixels_mut() {
+        p.0 = [255 - p.0[0], 255 - p.0[1], 255 - p.0[2], p.0[3]];
+    }
+    img.save(&picture).unwrap();
+    let e = ev.next();
+    assert_eq!(e.name, "show", "{e:?}");
+    assert!(e.id > first.id);
+    let colours = |data: &str| {
+        field(data, "props")
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|p| p["colours"].as_str().unwrap().to_string())
+            .collect::<Vec<_>>()
+    };
+    assert_ne!(
+        colours(&first.data),
+        colours(&e.data),
+        "the new show paints the new picture"
+    );
+}
+
+#[test]
+fn replacing_the_song_pushes_a_new_show_with_it() {
+    let show = demo_copy("watch-song", "tide-lamp-groove.toml");
+    let song = show.with_file_name("tide-lamp-groove.wav");
+    let server = start(&show);
+    let mut ev = Events::open(&server.addr);
+    let first = ev.next();
+    assert_eq!(first.name, "show");
+    let before = field(&first.data, "song");
+    let bytes = std::fs::read(&song).unwrap();
+    assert!(
+        before
+            .as_str()
+            .is_some_and(|s| s.starts_with(&format!("{}-", bytes.len()))),
+        "{before}"
+    );
+    // The song replaced (renamed over, as an editor saves): the same
+    // header, its last samples silenced.
+    let mut changed = bytes.clone();
+    let n = changed.len();
+    changed[n - 4000..].fill(0);
+    let fresh = show.with_file_name("new-song.tmp");
+    std::fs::write(&fresh, &changed).unwrap();
+    std::fs::rename(&fresh, &song).unwrap();
+    let e = ev.next();
+    assert_eq!(e.name, "show", "{e:?}");
+    let after = field(&e.data, "song");
+    assert_eq!(
+        after.as_str().unwrap(),
+        format!("{}-{:08x}", changed.len(), crc32fast::hash(&changed)),
+        "the new show names the new song"
+    );
+    let (_, page) = get(&server.addr, "/", &server.addr);
+    assert!(
+        page.contains(&glowscore::play::data::base64(&changed[..3000])),
+        "the page served embeds the new song"
+    );
 }
