@@ -17,6 +17,9 @@
 //! of light at the spot's position at the step's middle instant, carrying
 //! colour x time: a slow spot gets more steps per metre, so the light per
 //! unit length is proportional to the time spent there.
+//! Runs shorter than a step (a spot whose colour changes every frame) are
+//! pooled, back to back, into one point until the spot would move half a
+//! spacing: their light summed, at the middle of their time.
 //!
 //! Nothing holds all the points: frames are computed in blocks, runs are
 //! closed as the frames go by, and points are handed on in chunks, in one

@@ -89,7 +89,7 @@ fn every_cited_section_exists() {
         "Events",
         "Colour on the frames",
         "Command line",
-        "Planned",
+        "Program form",
     ] {
         assert!(heads.iter().any(|h| h == want), "no section {want:?}");
     }
