@@ -119,19 +119,8 @@ pub fn watch_loop(
     let addr = listener
         .local_addr()
         .map_err(Failure::output("the address"))?;
-    let stop = Arc::new(AtomicBool::new(false));
-    {
-        let hub = Arc::clone(&hub);
-        let stop = Arc::clone(&stop);
-        std::thread::spawn(move || watch::serve(listener, hub, stop));
-    }
-    writeln!(
-        log,
-        "serving the play page of {} at http://{addr}/ (Ctrl-C stops)",
-        show.display()
-    )
-    .map_err(Failure::output("the watch log"))?;
-
+    // The files are watched before the page is served: a save made as
+    // soon as the page is open is seen.
     let (tx, rx) = mpsc::channel();
     let mut watcher = notify::recommended_watcher(move |ev: notify::Result<notify::Event>| {
         // Reading a file is an event too (the rebuild's own reads): only
@@ -147,6 +136,19 @@ pub fn watch_loop(
     let mut files = inputs(&show, Some(&prepared), song);
     let mut dirs = BTreeSet::new();
     rewatch(&mut watcher, &files, &mut dirs);
+    let stop = Arc::new(AtomicBool::new(false));
+    {
+        let hub = Arc::clone(&hub);
+        let stop = Arc::clone(&stop);
+        std::thread::spawn(move || watch::serve(listener, hub, stop));
+    }
+    writeln!(
+        log,
+        "serving the play page of {} at http://{addr}/ (Ctrl-C stops)",
+        show.display()
+    )
+    .map_err(Failure::output("the watch log"))?;
+
     loop {
         let Ok(paths) = rx.recv() else { return Ok(()) };
         if !paths.iter().any(|p| files.contains(p)) {

@@ -101,7 +101,14 @@ impl Events {
 
     fn next(&mut self) -> Event {
         let (mut id, mut name, mut data) = (0, String::new(), String::new());
+        // The server's keep-alive lines reset the read timeout: the whole
+        // wait has its own limit.
+        let since = std::time::Instant::now();
         loop {
+            assert!(
+                since.elapsed() < Duration::from_secs(60),
+                "no event within 60 s"
+            );
             let mut line = String::new();
             let n = self
                 .reader
