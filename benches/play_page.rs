@@ -28,21 +28,9 @@ const WARM_UP: Duration = Duration::from_secs(3);
 /// Readings, one a second.
 const READINGS: usize = 8;
 
-fn chromium() -> String {
-    for name in ["chromium", "chromium-browser"] {
-        if let Ok(out) = Command::new("sh")
-            .args(["-c", &format!("command -v {name}")])
-            .output()
-            && out.status.success()
-        {
-            let p = String::from_utf8_lossy(&out.stdout).trim().to_string();
-            if !p.is_empty() {
-                return p;
-            }
-        }
-    }
-    panic!("chromium is not installed (`apt-get install -y chromium`)");
-}
+#[path = "../tests/suite/browser.rs"]
+mod browser;
+use browser::chromium;
 
 /// A browser driven over its DevTools pipe.
 struct Browser {

@@ -1,5 +1,6 @@
 //! The one integration test binary: each module was once its own test file.
 
+mod browser;
 mod check_cli;
 mod check_coverage;
 mod check_hardware;

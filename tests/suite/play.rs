@@ -11,6 +11,7 @@
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
+use crate::browser::chromium;
 use glowscore::play::data::{colour_runs, decode_runs};
 use glowscore::prepared::Prepared;
 use glowscore::preview::{Camera, View};
@@ -29,25 +30,6 @@ pub fn tmp(name: &str) -> PathBuf {
 
 pub fn repo(rel: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join(rel)
-}
-
-/// The browser, or a loud failure.
-pub fn chromium() -> PathBuf {
-    for name in ["chromium", "chromium-browser"] {
-        if let Ok(out) = Command::new("sh")
-            .args(["-c", &format!("command -v {name}")])
-            .output()
-            && out.status.success()
-        {
-            let p = String::from_utf8_lossy(&out.stdout).trim().to_string();
-            if !p.is_empty() {
-                return PathBuf::from(p);
-            }
-        }
-    }
-    panic!(
-        "chromium is not installed: the play page's tests need it (`apt-get install -y chromium`, as .ci/run does)"
-    );
 }
 
 /// Runs headless Chromium on `url` with `extra` arguments; returns stdout.
